@@ -1,0 +1,10 @@
+#!/usr/bin/env bash
+# Runs every test: Rust unit, integration and property tests, then the browser tests in
+# headless Chromium against the real WASM build.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+scripts/build.sh
+cargo test --release
+if [ -d tests/browser ] && ls tests/browser/*.test.mjs >/dev/null 2>&1; then
+  node --test --test-concurrency=1 tests/browser/
+fi

@@ -1,0 +1,451 @@
+//! The library's front door: loaded feeds, the network of the last date asked for, stop search
+//! and planning, all in plain serialisable values. The CLI and the WASM module are thin shells
+//! around [`Engine`].
+
+use chrono::NaiveDate;
+use serde::{Deserialize, Serialize};
+use unicode_normalization::UnicodeNormalization;
+
+use crate::error::{FeedError, QueryError};
+use crate::itinerary::{Builder, Itinerary};
+use crate::network::Network;
+use crate::search::{self, Endpoints, Journey, Params, SearchState, StepFree};
+use crate::timetable::calendar::{clock_to_seconds, parse_clock, parse_date};
+use crate::timetable::{Access, FeedMeta, StopIdx, StopKind, Timetable, WalkConfig};
+
+/// A planning request as the page and the CLI send it. Missing fields take the defaults of
+/// [`Params::new`].
+#[derive(Debug, Clone, Serialize, Deserialize, Default)]
+#[serde(default)]
+pub struct PlanQuery {
+    pub from: String,
+    pub to: String,
+    /// YYYY-MM-DD
+    pub date: String,
+    /// HH:MM local time
+    pub time: String,
+    pub step_free: StepFree,
+    pub max_walk_m: Option<f64>,
+    pub walk_speed_mps: Option<f64>,
+    pub transfer_penalty_s: Option<u32>,
+    pub walk_weight: Option<f64>,
+    pub max_duration_s: Option<u32>,
+    /// Number of options (next departures); default 3.
+    pub options: Option<usize>,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct NoJourney {
+    pub reason: &'static str,
+    pub message: String,
+    pub blocking: Vec<String>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct PlanResult {
+    pub query: PlanQuery,
+    pub itineraries: Vec<Itinerary>,
+    pub no_journey: Option<NoJourney>,
+    pub step_free_extra_s: Option<i64>,
+    pub warnings: Vec<String>,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct StopMatch {
+    pub id: String,
+    pub feed: String,
+    pub name: String,
+    pub code: Option<String>,
+    pub platform: Option<String>,
+    pub station: Option<String>,
+    pub lat: f64,
+    pub lon: f64,
+    pub kind: StopKind,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct SketchLine {
+    pub route_id: String,
+    pub short_name: String,
+    pub color: String,
+    pub points: Vec<[f32; 2]>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct SketchStop {
+    pub id: String,
+    pub name: String,
+    pub lat: f64,
+    pub lon: f64,
+    pub station: bool,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Sketch {
+    pub min_lat: f64,
+    pub min_lon: f64,
+    pub max_lat: f64,
+    pub max_lon: f64,
+    pub stops: Vec<SketchStop>,
+    pub lines: Vec<SketchLine>,
+}
+
+/// Earliest arrival per stop, for reach ("what can be reached in 45 minutes").
+#[derive(Debug, Clone, Serialize)]
+pub struct Reach {
+    pub stop_id: String,
+    pub name: String,
+    pub arrive_s: u32,
+    pub minutes: u32,
+}
+
+#[derive(Default)]
+pub struct Engine {
+    pub tt: Timetable,
+    pub walk_cfg: WalkConfig,
+    net: Option<Network>,
+    state: SearchState,
+    /// Normalised names, parallel to `tt.stops`.
+    names: Vec<String>,
+}
+
+/// Lower case without accents, for matching names typed by people.
+pub fn normalise(s: &str) -> String {
+    s.nfd().filter(|c| !unicode_normalization::char::is_combining_mark(*c)).flat_map(char::to_lowercase).collect()
+}
+
+impl Engine {
+    pub fn new() -> Engine {
+        Engine::default()
+    }
+
+    fn loaded(&mut self) {
+        self.net = None;
+        self.names = self.tt.stops.iter().map(|s| normalise(&s.name)).collect();
+    }
+
+    pub fn load_zip(&mut self, name: &str, bytes: &[u8], progress: crate::ingest::Progress) -> Result<&FeedMeta, FeedError> {
+        let name = crate::ingest::unique_name(&self.tt, name);
+        let idx = crate::ingest::load_zip(&mut self.tt, &name, bytes, &self.walk_cfg, progress)?;
+        self.loaded();
+        Ok(&self.tt.feeds[idx.idx()])
+    }
+
+    pub fn load_path(&mut self, path: &std::path::Path, progress: crate::ingest::Progress) -> Result<&FeedMeta, FeedError> {
+        let idx = crate::ingest::load_path(&mut self.tt, path, &self.walk_cfg, progress)?;
+        self.loaded();
+        Ok(&self.tt.feeds[idx.idx()])
+    }
+
+    pub fn remove_feed(&mut self, name: &str) -> bool {
+        match self.tt.without_feed(name) {
+            Some(mut tt) => {
+                crate::timetable::walking::rebuild(&mut tt, &self.walk_cfg);
+                self.tt = tt;
+                self.loaded();
+                true
+            }
+            None => false,
+        }
+    }
+
+    /// The network of `date`, built on first use and kept until another date is asked for.
+    pub fn network(&mut self, date: NaiveDate) -> &Network {
+        if self.net.as_ref().is_none_or(|n| n.date != date) {
+            self.net = Some(Network::build(&self.tt, date));
+        }
+        self.net.as_ref().expect("just built")
+    }
+
+    /// Stops whose name, id or code matches `text`, case- and accent-insensitively; stations
+    /// before their platforms, exact and prefix matches first.
+    pub fn search_stops(&self, text: &str, limit: usize) -> Vec<StopMatch> {
+        let q = normalise(text.trim());
+        if q.is_empty() {
+            return vec![];
+        }
+        let mut hits: Vec<(u8, usize)> = Vec::new();
+        for (i, s) in self.tt.stops.iter().enumerate() {
+            if !matches!(s.kind, StopKind::Platform | StopKind::Station) {
+                continue;
+            }
+            // A platform whose station matches equally is folded into the station.
+            let n = &self.names[i];
+            let rank = if s.id == text.trim() || s.code.as_deref() == Some(text.trim()) {
+                0
+            } else if *n == q {
+                1
+            } else if n.starts_with(&q) {
+                2
+            } else if n.split(|c: char| !c.is_alphanumeric()).any(|w| w.starts_with(&q)) {
+                3
+            } else if n.contains(&q) {
+                4
+            } else {
+                continue;
+            };
+            let folded = s.parent.is_some_and(|p| self.names[p.idx()] == *n) && rank > 0;
+            let rank = rank * 2 + u8::from(s.kind == StopKind::Platform);
+            if !folded {
+                hits.push((rank, i));
+            }
+        }
+        hits.sort_by(|a, b| a.0.cmp(&b.0).then_with(|| self.tt.stops[a.1].name.cmp(&self.tt.stops[b.1].name)));
+        hits.truncate(limit);
+        hits.into_iter().map(|(_, i)| self.stop_match(StopIdx(i as u32))).collect()
+    }
+
+    fn stop_match(&self, s: StopIdx) -> StopMatch {
+        let st = self.tt.stop(s);
+        StopMatch {
+            id: st.id.clone(),
+            feed: self.tt.feeds.get(st.feed.idx()).map(|f| f.name.clone()).unwrap_or_default(),
+            name: st.name.clone(),
+            code: st.code.clone(),
+            platform: st.platform_code.clone(),
+            station: self.tt.station_name(s).map(str::to_string),
+            lat: st.lat,
+            lon: st.lon,
+            kind: st.kind,
+        }
+    }
+
+    /// Resolves a stop given by id (`id` or `feed:id`) or by name.
+    pub fn resolve(&self, text: &str) -> Result<StopIdx, QueryError> {
+        let t = text.trim();
+        let by_id: Vec<usize> = self.tt.stops.iter().enumerate().filter(|(_, s)| s.id == t || format!("{}:{}", self.tt.feeds[s.feed.idx()].name, s.id) == t).map(|(i, _)| i).collect();
+        if by_id.len() == 1 {
+            return Ok(StopIdx(by_id[0] as u32));
+        }
+        let q = normalise(t);
+        let candidates = self.search_stops(t, 50);
+        let exact: Vec<&StopMatch> = candidates.iter().filter(|m| normalise(&m.name) == q).collect();
+        let pick = |m: &StopMatch| self.tt.stops.iter().position(|s| s.id == m.id && self.tt.feeds[s.feed.idx()].name == m.feed).map(|i| StopIdx(i as u32));
+        let unique = |list: &[&StopMatch]| -> Option<StopIdx> {
+            // One place: all hits belong to the same station.
+            let first = pick(list.first()?)?;
+            let st = self.tt.station_of(first);
+            list.iter().all(|m| pick(m).is_some_and(|s| self.tt.station_of(s) == st)).then_some(st)
+        };
+        if let Some(s) = unique(&exact) {
+            return Ok(s);
+        }
+        if exact.is_empty() {
+            let all: Vec<&StopMatch> = candidates.iter().collect();
+            if let Some(s) = unique(&all) {
+                return Ok(s);
+            }
+        }
+        let label = |m: &StopMatch| format!("{} [{}]", m.name, m.id);
+        if !exact.is_empty() || !candidates.is_empty() {
+            let list: Vec<String> = if exact.is_empty() { candidates.iter().take(8).map(label).collect() } else { exact.iter().take(8).map(|m| label(m)).collect() };
+            return Err(QueryError::AmbiguousStop { text: t.to_string(), candidates: list });
+        }
+        // Nothing contains the text: suggest the closest names.
+        let mut scored: Vec<(f64, usize)> = self.names.iter().enumerate().filter(|(i, _)| matches!(self.tt.stops[*i].kind, StopKind::Platform | StopKind::Station) && self.tt.stops[*i].parent.is_none()).map(|(i, n)| (strsim::jaro_winkler(&q, n), i)).collect();
+        scored.sort_by(|a, b| b.0.total_cmp(&a.0));
+        let mut suggestions: Vec<String> = Vec::new();
+        for (_, i) in scored {
+            let n = self.tt.stops[i].name.clone();
+            if !suggestions.contains(&n) {
+                suggestions.push(n);
+            }
+            if suggestions.len() == 5 {
+                break;
+            }
+        }
+        Err(QueryError::UnknownStop { text: t.to_string(), suggestions })
+    }
+
+    /// Where a search starts or ends for a stop: a station's entrances when it has any, else its
+    /// platforms; any other stop is itself.
+    pub fn endpoints_of(&self, s: StopIdx) -> Vec<StopIdx> {
+        let st = self.tt.stop(s);
+        if st.kind != StopKind::Station {
+            return vec![s];
+        }
+        let children: Vec<(usize, StopKind)> = self.tt.stops.iter().enumerate().filter(|(_, c)| c.parent == Some(s)).map(|(i, c)| (i, c.kind)).collect();
+        let entrances: Vec<StopIdx> = children.iter().filter(|c| c.1 == StopKind::Entrance).map(|c| StopIdx(c.0 as u32)).collect();
+        if !entrances.is_empty() {
+            return entrances;
+        }
+        children.iter().filter(|c| c.1 == StopKind::Platform).map(|c| StopIdx(c.0 as u32)).collect()
+    }
+
+    pub fn params_for(&self, q: &PlanQuery) -> Result<Params, QueryError> {
+        let mut p = Params::new(q.step_free);
+        if let Some(v) = q.walk_speed_mps {
+            if !(v.is_finite() && v > 0.05 && v < 10.0) {
+                return Err(QueryError::BadOption(format!("walking speed {v} m/s is outside 0.05–10")));
+            }
+            p.walk_speed_mps = v;
+        }
+        if let Some(v) = q.max_walk_m {
+            if !(v.is_finite() && v >= 0.0) {
+                return Err(QueryError::BadOption(format!("maximum walk {v} m must be zero or more")));
+            }
+            p.max_walk_m = v;
+        }
+        if let Some(v) = q.transfer_penalty_s {
+            p.transfer_penalty_s = v.min(3 * 3600);
+        }
+        if let Some(v) = q.walk_weight {
+            if !(v.is_finite() && (1.0..=10.0).contains(&v)) {
+                return Err(QueryError::BadOption(format!("walk weight {v} must be 1–10")));
+            }
+            p.walk_weight = v;
+        }
+        if let Some(v) = q.max_duration_s {
+            p.max_duration_s = v.clamp(60, 24 * 3600);
+        }
+        Ok(p)
+    }
+
+    /// Plans a journey: the next `options` itineraries, or why there is none.
+    pub fn plan(&mut self, q: &PlanQuery) -> Result<PlanResult, QueryError> {
+        if self.tt.feeds.is_empty() {
+            return Err(QueryError::NoFeed);
+        }
+        let date = parse_date(&q.date).ok_or_else(|| QueryError::BadDate(q.date.clone()))?;
+        let (h, m) = parse_clock(&q.time).ok_or_else(|| QueryError::BadTime(q.time.clone()))?;
+        let from = self.resolve(&q.from)?;
+        let to = self.resolve(&q.to)?;
+        let p = self.params_for(q)?;
+        let k = q.options.unwrap_or(3).clamp(1, 10);
+        let ends = Endpoints { origins: self.endpoints_of(from), targets: self.endpoints_of(to) };
+        let tz = self.tt.feeds[0].timezone;
+        let depart_s = clock_to_seconds(tz, date, h, m).ok_or_else(|| QueryError::BadTime(q.time.clone()))?.max(0) as u32;
+        let mut result = PlanResult { query: q.clone(), itineraries: vec![], no_journey: None, step_free_extra_s: None, warnings: vec![] };
+        self.network(date);
+        let journeys = self.run_options(&ends, depart_s, &p, k);
+        result.itineraries = journeys.iter().map(|j| self.build(j, &ends, &p, depart_s)).collect();
+        if q.step_free != StepFree::Off {
+            let std = Params { step_free: StepFree::Off, walk_speed_mps: q.walk_speed_mps.unwrap_or(Params::new(StepFree::Off).walk_speed_mps), ..p.clone() };
+            let standard = self.run_options(&ends, depart_s, &std, 1);
+            if let (Some(s), Some(first)) = (standard.first(), result.itineraries.first()) {
+                let si = self.build(s, &ends, &std, depart_s);
+                result.step_free_extra_s = Some(first.arrive_s as i64 - si.arrive_s as i64);
+            }
+            if result.itineraries.is_empty() {
+                if let Some(s) = standard.first() {
+                    let si = self.build(s, &ends, &std, depart_s);
+                    let blocking = self.blocking(&si, &p);
+                    result.no_journey = Some(NoJourney { reason: "no_step_free_path", message: format!("No step-free journey found. The standard journey (leaving {}, arriving {}) uses elements that are not step-free.", si.depart, si.arrive), blocking });
+                }
+            }
+            if q.step_free == StepFree::Lenient && result.itineraries.iter().any(|i| i.step_free == Access::Unknown) {
+                result.warnings.push("Some legs rely on elements whose accessibility the feed does not state (lenient mode).".into());
+            }
+        }
+        if result.itineraries.is_empty() && result.no_journey.is_none() {
+            result.no_journey = Some(self.why_none(date, &ends, depart_s, &p));
+        }
+        Ok(result)
+    }
+
+    fn run_options(&mut self, ends: &Endpoints, depart_s: u32, p: &Params, k: usize) -> Vec<Journey> {
+        let net = self.net.as_ref().expect("network built");
+        search::options(&self.tt, net, &mut self.state, ends, depart_s, p, k)
+    }
+
+    fn build(&self, j: &Journey, ends: &Endpoints, p: &Params, depart_s: u32) -> Itinerary {
+        let net = self.net.as_ref().expect("network built");
+        Builder { tt: &self.tt, net, params: p, ends, walk_cfg: &self.walk_cfg, query_s: depart_s }.build(j)
+    }
+
+    /// The elements of a standard itinerary that a step-free journey cannot use.
+    fn blocking(&self, it: &Itinerary, p: &Params) -> Vec<String> {
+        let mut out = Vec::new();
+        for leg in &it.legs {
+            let bad = match p.step_free {
+                StepFree::Strict => leg.step_free.status != Access::Yes,
+                _ => leg.step_free.status == Access::No,
+            };
+            if bad {
+                let what = match &leg.route {
+                    Some(r) => format!("{} {} from {} to {}", r.mode, r.short_name, leg.from.name, leg.to.name),
+                    None => format!("walk from {} to {}", leg.from.name, leg.to.name),
+                };
+                out.push(format!("{what}: {}", leg.step_free.problems.join("; ")));
+            }
+        }
+        out
+    }
+
+    fn why_none(&mut self, date: NaiveDate, ends: &Endpoints, depart_s: u32, p: &Params) -> NoJourney {
+        if let Some((first, last)) = self.tt.date_range() {
+            if date < first || date > last {
+                return NoJourney { reason: "outside_feed_dates", message: format!("{date} is outside the dates the loaded feeds cover ({first} to {last})."), blocking: vec![] };
+            }
+        }
+        let net = self.net.as_ref().expect("network built");
+        if net.trips_today == 0 {
+            return NoJourney { reason: "no_service_on_date", message: format!("No trip of the loaded feeds runs on {date}."), blocking: vec![] };
+        }
+        let mut longer = p.clone();
+        longer.max_duration_s = 24 * 3600;
+        if let Some(j) = search::earliest(&self.tt, net, &mut self.state, ends, depart_s, &longer) {
+            let mins = (j.arrival_s.saturating_sub(depart_s)) / 60;
+            return NoJourney { reason: "nothing_within_limit", message: format!("Nothing arrives within {} min; the first journey found takes {mins} min.", p.max_duration_s / 60), blocking: vec![] };
+        }
+        NoJourney { reason: "no_connection", message: "No connection between these stops on this date after this time.".into(), blocking: vec![] }
+    }
+
+    /// Earliest arrival at every stop within `limit_min` minutes ("what can be reached").
+    pub fn reach(&mut self, from: &str, date: &str, time: &str, step_free: StepFree, limit_min: u32) -> Result<Vec<Reach>, QueryError> {
+        let date = parse_date(date).ok_or_else(|| QueryError::BadDate(date.into()))?;
+        let (h, m) = parse_clock(time).ok_or_else(|| QueryError::BadTime(time.into()))?;
+        let from = self.resolve(from)?;
+        let origins = self.endpoints_of(from);
+        let tz = self.tt.feeds.first().ok_or(QueryError::NoFeed)?.timezone;
+        let depart_s = clock_to_seconds(tz, date, h, m).ok_or_else(|| QueryError::BadTime(time.into()))?.max(0) as u32;
+        let mut p = Params::new(step_free);
+        p.max_duration_s = limit_min * 60;
+        self.network(date);
+        let net = self.net.as_ref().expect("network built");
+        let arr = search::one_to_all(&self.tt, net, &mut self.state, &origins, depart_s, &p);
+        let mut out: Vec<Reach> = arr
+            .iter()
+            .enumerate()
+            .filter(|(i, &a)| a != u32::MAX && self.tt.stops[*i].kind == StopKind::Platform)
+            .map(|(i, &a)| Reach { stop_id: self.tt.stops[i].id.clone(), name: self.tt.stops[i].name.clone(), arrive_s: a, minutes: (a - depart_s).div_ceil(60) })
+            .collect();
+        out.sort_by_key(|r| r.arrive_s);
+        Ok(out)
+    }
+
+    /// Stops and lines for a schematic drawing.
+    pub fn sketch(&self) -> Sketch {
+        let tt = &self.tt;
+        let mut sk = Sketch { min_lat: f64::INFINITY, min_lon: f64::INFINITY, max_lat: f64::NEG_INFINITY, max_lon: f64::NEG_INFINITY, stops: vec![], lines: vec![] };
+        for s in &tt.stops {
+            if !s.lat.is_finite() || !matches!(s.kind, StopKind::Platform | StopKind::Station) || (s.kind == StopKind::Platform && s.parent.is_some()) {
+                continue;
+            }
+            sk.min_lat = sk.min_lat.min(s.lat);
+            sk.max_lat = sk.max_lat.max(s.lat);
+            sk.min_lon = sk.min_lon.min(s.lon);
+            sk.max_lon = sk.max_lon.max(s.lon);
+            sk.stops.push(SketchStop { id: s.id.clone(), name: s.name.clone(), lat: s.lat, lon: s.lon, station: s.kind == StopKind::Station });
+        }
+        // One drawing per route: its longest trip's shape, or its stops in order.
+        let mut best: Vec<Option<usize>> = vec![None; tt.routes.len()];
+        for (i, t) in tt.trips.iter().enumerate() {
+            let b = &mut best[t.route.idx()];
+            if b.is_none_or(|j| tt.trips[j].len < t.len) {
+                *b = Some(i);
+            }
+        }
+        for (r, b) in best.iter().enumerate() {
+            let Some(ti) = *b else { continue };
+            let trip = &tt.trips[ti];
+            let points = match trip.shape.and_then(|s| tt.shapes.get(s as usize)).filter(|s| s.len() >= 2) {
+                Some(shape) => shape.clone(),
+                None => trip.events().map(|e| tt.stop(tt.ev_stop[e])).map(|s| [s.lat as f32, s.lon as f32]).collect(),
+            };
+            let route = &tt.routes[r];
+            sk.lines.push(SketchLine { route_id: route.id.clone(), short_name: route.short_name.clone(), color: route.color.clone(), points });
+        }
+        sk
+    }
+}

@@ -1,0 +1,356 @@
+//! Itineraries: a journey's graph path turned into legs a person can follow, in the one JSON shape
+//! that the CLI (`--json`), the WASM API and the page share (documented in DEVELOPERS.md).
+//!
+//! Each leg says whether it is step-free and why, from the feed's own fields: the trip's
+//! `wheelchair_accessible`, the stops' `wheelchair_boarding` (after parent-station inheritance)
+//! and each pathway's mode, stairs, slope and width.
+
+use serde::Serialize;
+
+use crate::network::Network;
+use crate::search::{access_walk_s, decode, Endpoints, Journey, Node, Params};
+use crate::timetable::calendar::seconds_to_clock;
+use crate::timetable::walking::pathway_access;
+use crate::timetable::{Access, Footpath, StopIdx, StopKind, Timetable, WalkConfig};
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct Place {
+    pub stop_id: String,
+    pub feed: String,
+    pub name: String,
+    pub platform: Option<String>,
+    pub lat: f64,
+    pub lon: f64,
+    pub station: Option<String>,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct RouteInfo {
+    pub id: String,
+    pub short_name: String,
+    pub long_name: String,
+    pub mode: String,
+    pub color: String,
+    pub text_color: String,
+    pub agency: String,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct StopCall {
+    pub stop_id: String,
+    pub name: String,
+    pub arrive_s: u32,
+    pub depart_s: u32,
+    pub arrive: String,
+    pub depart: String,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct PathStep {
+    pub pathway_id: String,
+    pub mode: String,
+    pub from: String,
+    pub to: String,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct StepFreeStatus {
+    pub status: Access,
+    /// Every element checked, with its value in the feed.
+    pub reasons: Vec<String>,
+    /// The subset of `reasons` that is not step-free (or unknown).
+    pub problems: Vec<String>,
+}
+
+impl StepFreeStatus {
+    fn new() -> Self {
+        StepFreeStatus { status: Access::Yes, reasons: vec![], problems: vec![] }
+    }
+    fn add(&mut self, a: Access, why: String) {
+        self.status = worst(self.status, a);
+        if a != Access::Yes {
+            self.problems.push(why.clone());
+        }
+        self.reasons.push(why);
+    }
+}
+
+#[derive(Debug, Clone, Copy, Serialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+pub enum LegKind {
+    Walk,
+    Ride,
+    Transfer,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct Leg {
+    pub kind: LegKind,
+    pub from: Place,
+    pub to: Place,
+    pub depart_s: u32,
+    pub arrive_s: u32,
+    pub depart: String,
+    pub arrive: String,
+    pub duration_s: u32,
+    pub wait_before_s: u32,
+    pub route: Option<RouteInfo>,
+    pub trip_id: Option<String>,
+    pub headsign: Option<String>,
+    pub frequency_based: bool,
+    pub intermediate_stops: Vec<StopCall>,
+    pub distance_m: Option<u32>,
+    pub path: Vec<PathStep>,
+    pub step_free: StepFreeStatus,
+}
+
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct Itinerary {
+    pub depart_s: u32,
+    pub arrive_s: u32,
+    pub depart: String,
+    pub arrive: String,
+    pub duration_s: u32,
+    pub rides: u32,
+    pub walk_s: u32,
+    pub wait_s: u32,
+    pub cost_s: u32,
+    pub step_free: Access,
+    pub legs: Vec<Leg>,
+}
+
+pub struct Builder<'a> {
+    pub tt: &'a Timetable,
+    pub net: &'a Network,
+    pub params: &'a Params,
+    pub ends: &'a Endpoints,
+    pub walk_cfg: &'a WalkConfig,
+    pub query_s: u32,
+}
+
+fn worst(a: Access, b: Access) -> Access {
+    match (a, b) {
+        (Access::No, _) | (_, Access::No) => Access::No,
+        (Access::Unknown, _) | (_, Access::Unknown) => Access::Unknown,
+        _ => Access::Yes,
+    }
+}
+
+fn access_word(a: Access) -> &'static str {
+    match a {
+        Access::Yes => "accessible (1)",
+        Access::No => "not accessible (2)",
+        Access::Unknown => "no information (0 or empty)",
+    }
+}
+
+impl Builder<'_> {
+    fn clock(&self, s: u32) -> String {
+        seconds_to_clock(self.net.tz, self.net.date, s as i64)
+    }
+
+    pub fn place(&self, s: StopIdx) -> Place {
+        let st = self.tt.stop(s);
+        Place {
+            stop_id: st.id.clone(),
+            feed: self.tt.feeds.get(st.feed.idx()).map(|f| f.name.clone()).unwrap_or_default(),
+            name: st.name.clone(),
+            platform: st.platform_code.clone(),
+            lat: st.lat,
+            lon: st.lon,
+            station: self.tt.station_name(s).map(str::to_string),
+        }
+    }
+
+    fn stop_reason(&self, s: StopIdx, what: &str) -> (Access, String) {
+        let st = self.tt.stop(s);
+        let how = if st.wheelchair_inherited { format!(" (inherited from station {})", self.tt.station_name(s).unwrap_or("?")) } else { String::new() };
+        (st.wheelchair, format!("{what} stop {} ({}): wheelchair_boarding {}{how}", st.name, st.id, access_word(st.wheelchair)))
+    }
+
+    fn walk_leg(&self, from: StopIdx, to: StopIdx, f: Option<&Footpath>, depart_s: u32, d: u32) -> Leg {
+        let walk = self.tt.walk(self.params.step_free.walk_profile());
+        let mut status = StepFreeStatus::new();
+        let mut path = vec![];
+        let mut kind = LegKind::Walk;
+        if let Some(f) = f {
+            if !f.street {
+                kind = LegKind::Transfer;
+            } else {
+                status.reasons.push("street walk: the feed does not describe streets; assumed step-free".into());
+            }
+            for step in walk.steps(f) {
+                let pw = &self.tt.pathways[step.pathway.idx()];
+                let (a, why) = pathway_access(self.tt, step.pathway, self.walk_cfg);
+                status.add(a, why);
+                let (x, y) = if step.reversed { (pw.to, pw.from) } else { (pw.from, pw.to) };
+                path.push(PathStep { pathway_id: pw.id.clone(), mode: pw.mode.name().into(), from: self.tt.stop(x).name.clone(), to: self.tt.stop(y).name.clone() });
+            }
+            for s in [from, to] {
+                if self.tt.stop(s).kind == StopKind::Entrance {
+                    let (a, why) = self.stop_reason(s, "entrance");
+                    status.add(a, why);
+                }
+            }
+        }
+        Leg {
+            kind,
+            from: self.place(from),
+            to: self.place(to),
+            depart_s,
+            arrive_s: depart_s + d,
+            depart: self.clock(depart_s),
+            arrive: self.clock(depart_s + d),
+            duration_s: d,
+            wait_before_s: 0,
+            route: None,
+            trip_id: None,
+            headsign: None,
+            frequency_based: false,
+            intermediate_stops: vec![],
+            distance_m: f.map(|f| f.length_m.round() as u32),
+            path,
+            step_free: status,
+        }
+    }
+
+    fn footpath(&self, a: StopIdx, b: StopIdx) -> Option<(&Footpath, u32)> {
+        let f = self.tt.walk(self.params.step_free.walk_profile()).between(a, b)?;
+        Some((f, f.duration_s(self.params.walk_speed_mps)))
+    }
+
+    fn ride_leg(&self, board: u32, last: u32, wait_before_s: u32) -> Leg {
+        let (net, tt) = (self.net, self.tt);
+        let alight = last as usize + 1;
+        let inst = net.instance_of(board);
+        let trip = tt.trip(inst.trip);
+        let route = &tt.routes[trip.route.idx()];
+        let (from, to) = (net.stop[board as usize], net.stop[alight]);
+        let mut status = StepFreeStatus::new();
+        status.add(trip.wheelchair, format!("trip {}: wheelchair_accessible {}", trip.id, access_word(trip.wheelchair)));
+        for (s, what) in [(from, "boarding"), (to, "alighting")] {
+            let (a, why) = self.stop_reason(s, what);
+            status.add(a, why);
+        }
+        let intermediate_stops = (board as usize + 1..alight)
+            .map(|e| StopCall { stop_id: tt.stop(net.stop[e]).id.clone(), name: tt.stop(net.stop[e]).name.clone(), arrive_s: net.arr[e], depart_s: net.dep[e], arrive: self.clock(net.arr[e]), depart: self.clock(net.dep[e]) })
+            .collect();
+        let (d, a) = (net.dep[board as usize], net.arr[alight]);
+        Leg {
+            kind: LegKind::Ride,
+            from: self.place(from),
+            to: self.place(to),
+            depart_s: d,
+            arrive_s: a,
+            depart: self.clock(d),
+            arrive: self.clock(a),
+            duration_s: a - d,
+            wait_before_s,
+            route: Some(RouteInfo {
+                id: route.id.clone(),
+                short_name: route.short_name.clone(),
+                long_name: route.long_name.clone(),
+                mode: route.mode.name().into(),
+                color: route.color.clone(),
+                text_color: route.text_color.clone(),
+                agency: route.agency.clone(),
+            }),
+            trip_id: Some(trip.id.clone()),
+            headsign: trip.headsign.clone(),
+            frequency_based: trip.frequency_based,
+            intermediate_stops,
+            distance_m: None,
+            path: vec![],
+            step_free: status,
+        }
+    }
+
+    /// Turns a journey into legs.
+    pub fn build(&self, j: &Journey) -> Itinerary {
+        let mut legs: Vec<Leg> = Vec::new();
+        if let Some((o, t, d)) = j.direct_walk {
+            if o != t {
+                let f = self.footpath(o, t).map(|x| x.0);
+                legs.push(self.walk_leg(o, t, f, self.query_s, d));
+            }
+            return self.finish(j, legs, self.query_s);
+        }
+        let net = self.net;
+        // Ride segments: (board event, last ride event).
+        let mut rides: Vec<(u32, u32)> = Vec::new();
+        for w in j.nodes.windows(2) {
+            match (decode(net, w[0]).1, decode(net, w[1]).1) {
+                (Node::Wait(_), Node::Ride(e)) => rides.push((e, e)),
+                (Node::Ride(_), Node::Ride(e)) => {
+                    if let Some(r) = rides.last_mut() {
+                        r.1 = e;
+                    }
+                }
+                _ => {}
+            }
+        }
+        let mut t = self.query_s;
+        let mut at: Option<StopIdx> = None;
+        let mut depart = None;
+        for (i, &(board, last)) in rides.iter().enumerate() {
+            let s = net.stop[board as usize];
+            match at {
+                None => {
+                    // Access: from the nearest origin to the first boarding stop.
+                    if !self.ends.origins.contains(&s) {
+                        let d = access_walk_s(self.tt, self.ends, s, self.params).unwrap_or(0);
+                        let o = self.ends.origins.iter().copied().filter(|&o| self.footpath(o, s).is_some_and(|x| x.1 == d)).next().unwrap_or(self.ends.origins[0]);
+                        let leave = net.dep[board as usize].saturating_sub(d).max(self.query_s);
+                        legs.push(self.walk_leg(o, s, self.footpath(o, s).map(|x| x.0), leave, d));
+                        t = leave + d;
+                        depart = Some(leave);
+                    } else {
+                        depart = Some(net.dep[board as usize]);
+                        t = net.dep[board as usize];
+                    }
+                }
+                Some(prev) if prev != s => {
+                    let (f, d) = self.footpath(prev, s).map(|(f, d)| (Some(f), d)).unwrap_or((None, 0));
+                    legs.push(self.walk_leg(prev, s, f, t, d));
+                    t += d;
+                }
+                _ => {}
+            }
+            let wait = net.dep[board as usize].saturating_sub(t);
+            let leg = self.ride_leg(board, last, wait);
+            t = leg.arrive_s;
+            at = Some(net.stop[last as usize + 1]);
+            legs.push(leg);
+            let _ = i;
+        }
+        if let Some(v) = at {
+            if !self.ends.targets.contains(&v) {
+                let best = self.ends.targets.iter().filter_map(|&tg| self.footpath(v, tg).map(|(f, d)| (d, tg, *f))).filter(|x| x.2.length_m as f64 <= self.params.max_walk_m).min_by_key(|x| x.0);
+                if let Some((d, tg, f)) = best {
+                    legs.push(self.walk_leg(v, tg, Some(&f), t, d));
+                }
+            }
+        }
+        self.finish(j, legs, depart.unwrap_or(self.query_s))
+    }
+
+    fn finish(&self, j: &Journey, legs: Vec<Leg>, depart_s: u32) -> Itinerary {
+        let arrive_s = legs.last().map_or(depart_s, |l| l.arrive_s);
+        let walk_s = legs.iter().filter(|l| l.kind != LegKind::Ride).map(|l| l.duration_s).sum();
+        let wait_s = legs.iter().map(|l| l.wait_before_s).sum();
+        let step_free = legs.iter().fold(Access::Yes, |a, l| worst(a, l.step_free.status));
+        Itinerary {
+            depart_s,
+            arrive_s,
+            depart: self.clock(depart_s),
+            arrive: self.clock(arrive_s),
+            duration_s: arrive_s - depart_s,
+            rides: j.rides,
+            walk_s,
+            wait_s,
+            cost_s: j.cost_s,
+            step_free,
+            legs,
+        }
+    }
+}

@@ -1,0 +1,187 @@
+//! The time-expanded graph of one service date.
+//!
+//! Every stop event of every trip running that day becomes two nodes:
+//! - a **waiting node** `W(p)` at its stop, at its departure time, where `p` is the event's
+//!   position in the stop's departures sorted by time. `W(p) → W(p+1)` is the waiting chain; it is
+//!   implicit in the array order, so it costs no memory.
+//! - a **ride node** `R(e)`: on board trip instance at event `e`, about to leave at its departure
+//!   time. `R(e) → R(e+1)` is staying seated (no transfer); alighting at `e+1` leads to the
+//!   waiting chain of that stop after its minimum transfer time, or along a walking link to
+//!   another stop's chain.
+//!
+//! Boarding `W(p) → R(e)` is the only edge with a transfer penalty. All edges go forward in time,
+//! so costs are non-negative and Dijkstra applies.
+//!
+//! The date's timeline counts seconds from the date's "noon minus 12 h" in the first feed's zone.
+//! It holds the trips of the service day itself, the previous service day's trips still running
+//! after that origin (night services past 24:00), and the next service day's trips that leave
+//! before [`NEXT_DAY_HORIZON_S`].
+
+use chrono::{Duration, NaiveDate};
+use chrono_tz::Tz;
+
+use crate::timetable::calendar::{day_origin, origin_offset_s};
+use crate::timetable::{Access, StopIdx, Timetable, TripIdx, NO_DROP_OFF, NO_PICKUP};
+
+/// The next day's trips that leave before this time on the date's timeline are included: 30 h,
+/// i.e. 06:00 of the next day.
+pub const NEXT_DAY_HORIZON_S: i64 = 30 * 3600;
+
+/// Flags per network event (in addition to the timetable's pickup/drop-off bits).
+pub const LAST_OF_TRIP: u8 = 8;
+/// Trip and stop both marked wheelchair-accessible (1) for boarding/alighting here.
+pub const STEP_FREE_YES: u8 = 16;
+/// Neither trip nor stop marked not accessible (2), but at least one unknown (0/empty).
+pub const STEP_FREE_UNKNOWN: u8 = 32;
+
+/// A trip running on the timeline, `offset_s` after its own service day's origin.
+#[derive(Debug, Clone, Copy)]
+pub struct Instance {
+    pub trip: TripIdx,
+    /// Seconds from this network's origin to the instance's service-day origin.
+    pub offset_s: i64,
+    /// First network event of the instance.
+    pub first: u32,
+    /// Index of that event within the trip (events before it were cut off before the origin).
+    pub skip: u32,
+}
+
+#[derive(Debug, Clone)]
+pub struct Network {
+    pub date: NaiveDate,
+    pub tz: Tz,
+    pub instances: Vec<Instance>,
+    /// Per network event (struct of arrays).
+    pub arr: Vec<u32>,
+    pub dep: Vec<u32>,
+    pub stop: Vec<StopIdx>,
+    pub flags: Vec<u8>,
+    /// Departures of each stop sorted by time: events `by_stop[stop_first[s]..stop_first[s+1]]`.
+    pub stop_first: Vec<u32>,
+    pub by_stop: Vec<u32>,
+    /// Trips running on the date itself (not counting the neighbouring days).
+    pub trips_today: usize,
+}
+
+impl Network {
+    pub fn build(tt: &Timetable, date: NaiveDate) -> Network {
+        let tz = tt.feeds.first().map(|f| f.timezone).unwrap_or(chrono_tz::UTC);
+        let mut net = Network { date, tz, instances: Vec::new(), arr: Vec::new(), dep: Vec::new(), stop: Vec::new(), flags: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), trips_today: 0 };
+        let days = [date - Duration::days(1), date, date + Duration::days(1)];
+        // Per feed and day: offset of that service day's origin, and which services run.
+        let mut runs: Vec<[bool; 3]> = vec![[false; 3]; tt.services.len()];
+        for (si, svc) in tt.services.iter().enumerate() {
+            for (d, day) in days.iter().enumerate() {
+                runs[si][d] = svc.runs_on(*day);
+            }
+        }
+        let offsets: Vec<[i64; 3]> = tt.feeds.iter().map(|f| days.map(|day| origin_offset_s(tz, date, f.timezone, day))).collect();
+        let feed_of_trip = |t: usize| -> usize { tt.feeds.iter().position(|f| (f.trip_range.0 as usize..f.trip_range.1 as usize).contains(&t)).unwrap_or(0) };
+        let mut feed_cursor = 0usize;
+        for (ti, trip) in tt.trips.iter().enumerate() {
+            while feed_cursor + 1 < tt.feeds.len() && ti >= tt.feeds[feed_cursor].trip_range.1 as usize {
+                feed_cursor += 1;
+            }
+            let feed = if tt.feeds.get(feed_cursor).is_some_and(|f| (f.trip_range.0 as usize..f.trip_range.1 as usize).contains(&ti)) { feed_cursor } else { feed_of_trip(ti) };
+            for d in 0..3 {
+                if !runs[trip.service.idx()][d] {
+                    continue;
+                }
+                let off = offsets.get(feed).map_or((d as i64 - 1) * 86_400, |o| o[d]);
+                let ev = trip.events();
+                let first_dep = tt.ev_dep[ev.start] as i64 + off;
+                let last_arr = tt.ev_arr[ev.end - 1] as i64 + off;
+                if last_arr < 0 || (d == 2 && first_dep >= NEXT_DAY_HORIZON_S) {
+                    continue;
+                }
+                if d == 1 {
+                    net.trips_today += 1;
+                }
+                // Cut events that leave before the origin (only the previous day's late trips).
+                let skip = ev.clone().take_while(|&e| (tt.ev_dep[e] as i64 + off) < 0).count();
+                if ev.len() - skip < 2 {
+                    continue;
+                }
+                let first = net.arr.len() as u32;
+                net.instances.push(Instance { trip: TripIdx(ti as u32), offset_s: off, first, skip: skip as u32 });
+                let stops_access = |e: usize| tt.stops[tt.ev_stop[e].idx()].wheelchair;
+                for e in ev.start + skip..ev.end {
+                    net.arr.push((tt.ev_arr[e] as i64 + off).max(0) as u32);
+                    net.dep.push((tt.ev_dep[e] as i64 + off) as u32);
+                    net.stop.push(tt.ev_stop[e]);
+                    let mut f = tt.ev_flags[e] & (NO_PICKUP | NO_DROP_OFF);
+                    if e + 1 == ev.end {
+                        f |= LAST_OF_TRIP;
+                    }
+                    f |= step_free_bits(trip.wheelchair, stops_access(e));
+                    net.flags.push(f);
+                }
+            }
+        }
+        // Departures per stop, by counting sort on stop then a sort by time within each stop.
+        let n_stops = tt.stops.len();
+        let mut count = vec![0u32; n_stops + 1];
+        for s in &net.stop {
+            count[s.idx() + 1] += 1;
+        }
+        for i in 0..n_stops {
+            count[i + 1] += count[i];
+        }
+        net.stop_first = count.clone();
+        let mut by_stop = vec![0u32; net.stop.len()];
+        for (e, s) in net.stop.iter().enumerate() {
+            let slot = &mut count[s.idx()];
+            by_stop[*slot as usize] = e as u32;
+            *slot += 1;
+        }
+        for s in 0..n_stops {
+            let r = net.stop_first[s] as usize..net.stop_first[s + 1] as usize;
+            by_stop[r].sort_unstable_by_key(|&e| (net.dep[e as usize], e));
+        }
+        net.by_stop = by_stop;
+        net
+    }
+
+    pub fn events(&self) -> usize {
+        self.dep.len()
+    }
+
+    /// Position in the stop's departures of the first one at or after `t`, or `None`.
+    #[inline]
+    pub fn first_departure(&self, s: StopIdx, t: u32) -> Option<u32> {
+        let (a, b) = (self.stop_first[s.idx()] as usize, self.stop_first[s.idx() + 1] as usize);
+        let deps = &self.by_stop[a..b];
+        let i = deps.partition_point(|&e| self.dep[e as usize] < t);
+        (i < deps.len()).then_some((a + i) as u32)
+    }
+
+    /// The instance an event belongs to.
+    pub fn instance_of(&self, e: u32) -> &Instance {
+        let i = self.instances.partition_point(|inst| inst.first <= e) - 1;
+        &self.instances[i]
+    }
+
+    /// Index in the timetable of network event `e`.
+    pub fn timetable_event(&self, tt: &Timetable, e: u32) -> usize {
+        let inst = self.instance_of(e);
+        tt.trips[inst.trip.idx()].first_event as usize + inst.skip as usize + (e - inst.first) as usize
+    }
+
+    /// Bytes held by the graph arrays.
+    pub fn bytes(&self) -> usize {
+        self.arr.capacity() * 4 + self.dep.capacity() * 4 + self.stop.capacity() * 4 + self.flags.capacity() + self.by_stop.capacity() * 4 + self.stop_first.capacity() * 4 + self.instances.capacity() * std::mem::size_of::<Instance>()
+    }
+
+    /// The instant of the timeline's origin.
+    pub fn origin(&self) -> chrono::DateTime<chrono::Utc> {
+        day_origin(self.tz, self.date)
+    }
+}
+
+fn step_free_bits(trip: Access, stop: Access) -> u8 {
+    match (trip, stop) {
+        (Access::No, _) | (_, Access::No) => 0,
+        (Access::Yes, Access::Yes) => STEP_FREE_YES,
+        _ => STEP_FREE_UNKNOWN,
+    }
+}

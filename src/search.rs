@@ -1,0 +1,604 @@
+//! Dijkstra on the time-expanded graph, on generalised cost.
+//!
+//! Cost at a node = its time + a penalty for each boarding + extra weight on walking. Since every
+//! node has a fixed time, minimising cost node by node is exact (unlike label-per-stop
+//! time-dependent search with penalties). Every boarding is charged; the first one's penalty is
+//! taken off the reported cost, which ranks journeys the same way as "penalty per boarding after
+//! the first" among journeys that ride at all; a walk-only journey is compared separately.
+//!
+//! **Invariant:** a search allocates only when the graph grew since the previous one; buffers are
+//! reused and reset by generation stamps.
+
+use std::cmp::Reverse;
+use std::collections::BinaryHeap;
+
+use serde::Serialize;
+
+use crate::network::{Network, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
+use crate::timetable::{Footpath, StopIdx, Timetable, WalkProfile, NO_DROP_OFF, NO_PICKUP};
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum StepFree {
+    #[default]
+    Off,
+    /// Only elements marked accessible (1).
+    Strict,
+    /// Also elements whose accessibility is unknown (0 or empty); such legs are flagged.
+    Lenient,
+}
+
+impl StepFree {
+    pub fn walk_profile(self) -> WalkProfile {
+        match self {
+            StepFree::Off => WalkProfile::Standard,
+            StepFree::Strict => WalkProfile::StepFreeStrict,
+            StepFree::Lenient => WalkProfile::StepFreeLenient,
+        }
+    }
+    fn event_mask(self) -> u8 {
+        match self {
+            StepFree::Off => 0,
+            StepFree::Strict => STEP_FREE_YES,
+            StepFree::Lenient => STEP_FREE_YES | STEP_FREE_UNKNOWN,
+        }
+    }
+}
+
+/// Routing parameters of one query, with the defaults and where they come from.
+#[derive(Debug, Clone, Serialize)]
+pub struct Params {
+    pub step_free: StepFree,
+    /// Walking speed, m/s. Default 1.3 (common practice, no source); step-free default 0.8
+    /// (common practice, no source: manual wheelchair users on level ground, recalled from memory).
+    pub walk_speed_mps: f64,
+    /// Longest single walking link, metres. Default 800 (common practice, no source).
+    pub max_walk_m: f64,
+    /// Added for each boarding after the first, s. Default 300 (common practice, no source).
+    pub transfer_penalty_s: u32,
+    /// Walking time is multiplied by this in the cost (1.0 = none).
+    pub walk_weight: f64,
+    /// Minimum time to change vehicles at the same stop, s. Default 60 (common practice, no source).
+    pub min_transfer_s: u32,
+    /// Extra change time for the step-free profile, s. Default 120 (common practice, no source).
+    pub step_free_extra_transfer_s: u32,
+    /// Journeys longer than this are not searched, s. Default 4 h.
+    pub max_duration_s: u32,
+}
+
+impl Params {
+    pub fn new(step_free: StepFree) -> Params {
+        Params {
+            step_free,
+            walk_speed_mps: if step_free == StepFree::Off { 1.3 } else { 0.8 },
+            max_walk_m: 800.0,
+            transfer_penalty_s: 300,
+            walk_weight: 1.0,
+            min_transfer_s: 60,
+            step_free_extra_transfer_s: 120,
+            max_duration_s: 4 * 3600,
+        }
+    }
+    pub fn transfer_s(&self) -> u32 {
+        self.min_transfer_s + if self.step_free == StepFree::Off { 0 } else { self.step_free_extra_transfer_s }
+    }
+}
+
+impl Default for Params {
+    fn default() -> Self {
+        Params::new(StepFree::Off)
+    }
+}
+
+/// Where a search starts and ends: stops reachable at no walking cost (a station's entrances or
+/// platforms, or one stop).
+#[derive(Debug, Clone)]
+pub struct Endpoints {
+    pub origins: Vec<StopIdx>,
+    pub targets: Vec<StopIdx>,
+}
+
+/// One journey as a path of graph nodes.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Journey {
+    /// Nodes from the first waiting node to the sink (empty for a walk-only journey).
+    pub nodes: Vec<u32>,
+    pub arrival_s: u32,
+    /// Generalised cost, first boarding's penalty taken off.
+    pub cost_s: u32,
+    pub rides: u32,
+    /// Walk-only journey: origin, target, walking seconds.
+    pub direct_walk: Option<(StopIdx, StopIdx, u32)>,
+}
+
+/// Reusable buffers for searches on one network.
+#[derive(Debug, Default)]
+pub struct SearchState {
+    cost: Vec<u32>,
+    stamp: Vec<u32>,
+    pred: Vec<u32>,
+    generation: u32,
+    heap: BinaryHeap<Reverse<(u32, u32)>>,
+    is_target: Vec<u32>,
+    stop_arrival: Vec<u32>,
+    /// Nodes per layer (2 × events + sink + spare).
+    layer_nodes: u32,
+    layers: u32,
+    pub settled: u64,
+}
+
+pub const NO_PRED: u32 = u32::MAX;
+/// Predecessor of nodes reached straight from the origin.
+pub const FROM_ORIGIN: u32 = u32::MAX - 1;
+
+impl SearchState {
+    pub fn new() -> Self {
+        SearchState::default()
+    }
+
+    fn reset(&mut self, net: &Network, stops: usize, layers: u32) {
+        let e = net.events() as u32;
+        self.layer_nodes = 2 * e + 1;
+        self.layers = layers;
+        let total = (self.layer_nodes * layers) as usize;
+        if self.cost.len() < total {
+            self.cost.resize(total, u32::MAX);
+            self.stamp.resize(total, 0);
+            self.pred.resize(total, NO_PRED);
+        }
+        if self.is_target.len() < stops {
+            self.is_target.resize(stops, 0);
+            self.stop_arrival.resize(stops, u32::MAX);
+        }
+        self.generation = self.generation.wrapping_add(1);
+        if self.generation == 0 {
+            self.stamp.iter_mut().for_each(|s| *s = 0);
+            self.is_target.iter_mut().for_each(|s| *s = 0);
+            self.generation = 1;
+        }
+        self.heap.clear();
+        self.settled = 0;
+    }
+
+    /// Cost of a node in the last search, `None` when it was not reached.
+    #[inline]
+    pub fn cost_of(&self, node: u32) -> Option<u32> {
+        (self.stamp.get(node as usize) == Some(&self.generation)).then(|| self.cost[node as usize])
+    }
+    pub fn pred_of(&self, node: u32) -> u32 {
+        if self.cost_of(node).is_some() {
+            self.pred[node as usize]
+        } else {
+            NO_PRED
+        }
+    }
+    pub fn sink(&self, layer: u32) -> u32 {
+        layer * self.layer_nodes + self.layer_nodes - 1
+    }
+    /// Earliest arrival per stop after a one-to-all search.
+    pub fn stop_arrivals(&self) -> &[u32] {
+        &self.stop_arrival
+    }
+
+    #[inline]
+    fn relax(&mut self, node: u32, cost: u32, pred: u32) {
+        let i = node as usize;
+        if self.stamp[i] != self.generation || cost < self.cost[i] {
+            self.stamp[i] = self.generation;
+            self.cost[i] = cost;
+            self.pred[i] = pred;
+            self.heap.push(Reverse((cost, node)));
+        }
+    }
+}
+
+/// What a run of the search looks for.
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum Goal {
+    /// Stop at the first settled sink.
+    Target,
+    /// Settle everything within the time limit.
+    All,
+}
+
+/// Node kinds in one layer of `2E + 1` nodes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Node {
+    Wait(u32),
+    Ride(u32),
+    Sink,
+}
+
+pub fn decode(net: &Network, node: u32) -> (u32, Node) {
+    let e = net.events() as u32;
+    let per = 2 * e + 1;
+    let (layer, local) = (node / per, node % per);
+    let kind = if local < e {
+        Node::Wait(local)
+    } else if local < 2 * e {
+        Node::Ride(local - e)
+    } else {
+        Node::Sink
+    };
+    (layer, kind)
+}
+
+/// Time of a graph node on the network's timeline.
+pub fn node_time(net: &Network, node: u32) -> Option<u32> {
+    match decode(net, node).1 {
+        Node::Wait(p) => Some(net.dep[net.by_stop[p as usize] as usize]),
+        Node::Ride(e) => Some(net.dep[e as usize]),
+        Node::Sink => None,
+    }
+}
+
+struct Ctx<'a> {
+    net: &'a Network,
+    p: &'a Params,
+    mask: u8,
+    horizon: u32,
+    goal: Goal,
+    e: u32,
+}
+
+impl Ctx<'_> {
+    #[inline]
+    fn walk_ok(&self, f: &Footpath) -> bool {
+        f.length_m as f64 <= self.p.max_walk_m
+    }
+    #[inline]
+    fn walk_cost(&self, d: u32) -> u32 {
+        if self.p.walk_weight == 1.0 {
+            d
+        } else {
+            (d as f64 * self.p.walk_weight).round() as u32
+        }
+    }
+    #[inline]
+    fn event_ok(&self, e: usize) -> bool {
+        self.mask == 0 || self.net.flags[e] & self.mask != 0
+    }
+
+    /// Enters the waiting chain of `s` at the first departure at or after `t`.
+    #[inline]
+    fn enter(&self, st: &mut SearchState, layer_base: u32, s: StopIdx, t: u32, cost: u32, pred: u32) {
+        if let Some(p) = self.net.first_departure(s, t) {
+            let dep = self.net.dep[self.net.by_stop[p as usize] as usize];
+            if dep <= self.horizon {
+                st.relax(layer_base + p, cost + (dep - t), pred);
+            }
+        }
+    }
+
+    fn record_arrival(&self, st: &mut SearchState, s: StopIdx, t: u32) {
+        if self.goal == Goal::All && t < st.stop_arrival[s.idx()] {
+            st.stop_arrival[s.idx()] = t;
+        }
+    }
+}
+
+fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params, layers: u32, goal: Goal) {
+    st.reset(net, tt.stops.len(), layers);
+    let walk = tt.walk(p.step_free.walk_profile());
+    let cx = Ctx { net, p, mask: p.step_free.event_mask(), horizon: depart_s.saturating_add(p.max_duration_s), goal, e: net.events() as u32 };
+    let gen = st.generation;
+    for &t in &ends.targets {
+        st.is_target[t.idx()] = gen;
+    }
+    if goal == Goal::All {
+        st.stop_arrival.iter_mut().for_each(|a| *a = u32::MAX);
+    }
+    for &o in &ends.origins {
+        cx.record_arrival(st, o, depart_s);
+        cx.enter(st, 0, o, depart_s, depart_s, FROM_ORIGIN);
+        for f in walk.from(o) {
+            if cx.walk_ok(f) {
+                let d = f.duration_s(p.walk_speed_mps);
+                cx.record_arrival(st, f.to, depart_s + d);
+                cx.enter(st, 0, f.to, depart_s + d, depart_s + cx.walk_cost(d), FROM_ORIGIN);
+            }
+        }
+    }
+    let per = st.layer_nodes;
+    let mut sinks_left = layers;
+    while let Some(Reverse((c, node))) = st.heap.pop() {
+        if c > st.cost[node as usize] {
+            continue;
+        }
+        st.settled += 1;
+        let (layer, local) = (node / per, node % per);
+        let base = layer * per;
+        let e_count = cx.e;
+        if local < e_count {
+            // Waiting node W(p).
+            let pos = local;
+            let ev = net.by_stop[pos as usize] as usize;
+            let t = net.dep[ev];
+            let s = net.stop[ev];
+            if pos + 1 < net.stop_first[s.idx() + 1] {
+                let nt = net.dep[net.by_stop[pos as usize + 1] as usize];
+                if nt <= cx.horizon {
+                    st.relax(node + 1, c + (nt - t), node);
+                }
+            }
+            let f = net.flags[ev];
+            if f & (NO_PICKUP | LAST_OF_TRIP) == 0 && cx.event_ok(ev) {
+                let next_layer = if layers == 1 { 0 } else { layer + 1 };
+                if next_layer < layers {
+                    st.relax(next_layer * per + e_count + ev as u32, c + p.transfer_penalty_s, node);
+                }
+            }
+        } else if local < 2 * e_count {
+            // Ride node R(e): on board, leaving at dep[e].
+            let e = (local - e_count) as usize;
+            let t = net.dep[e];
+            let e2 = e + 1;
+            if net.flags[e2] & LAST_OF_TRIP == 0 && net.dep[e2] <= cx.horizon {
+                st.relax(node + 1, c + (net.dep[e2] - t), node);
+            }
+            if net.flags[e2] & NO_DROP_OFF != 0 || !cx.event_ok(e2) {
+                continue;
+            }
+            let ta = net.arr[e2];
+            if ta > cx.horizon {
+                continue;
+            }
+            let v = net.stop[e2];
+            let at = c + (ta - t);
+            cx.record_arrival(st, v, ta);
+            if st.is_target[v.idx()] == gen {
+                st.relax(base + per - 1, at, node);
+            }
+            if let Some(mt) = tt.stop_transfer_s(v, p.transfer_s()) {
+                cx.enter(st, base, v, ta + mt, at + mt, node);
+            }
+            for f in walk.from(v) {
+                if !cx.walk_ok(f) {
+                    continue;
+                }
+                let d = f.duration_s(p.walk_speed_mps);
+                let wc = at + cx.walk_cost(d);
+                cx.record_arrival(st, f.to, ta + d);
+                if st.is_target[f.to.idx()] == gen {
+                    st.relax(base + per - 1, wc, node);
+                }
+                cx.enter(st, base, f.to, ta + d, wc, node);
+            }
+        } else {
+            // Sink.
+            if goal == Goal::Target {
+                sinks_left -= 1;
+                if sinks_left == 0 {
+                    break;
+                }
+            }
+        }
+    }
+}
+
+impl SearchState {
+    fn trace(&self, sink: u32) -> Vec<u32> {
+        let mut nodes = vec![sink];
+        let mut cur = sink;
+        while let Some(&p) = self.pred.get(cur as usize) {
+            if p == FROM_ORIGIN || p == NO_PRED {
+                break;
+            }
+            nodes.push(p);
+            cur = p;
+        }
+        nodes.reverse();
+        nodes
+    }
+}
+
+fn sink_arrival(net: &Network, tt: &Timetable, st: &SearchState, p: &Params, ends: &Endpoints, sink: u32) -> Option<(u32, u32)> {
+    let r = st.pred_of(sink);
+    let Node::Ride(e) = decode(net, r).1 else { return None };
+    let e2 = e as usize + 1;
+    let (ta, v) = (net.arr[e2], net.stop[e2]);
+    if ends.targets.contains(&v) {
+        return Some((ta, 0));
+    }
+    let walk = tt.walk(p.step_free.walk_profile());
+    ends.targets.iter().filter_map(|&t| walk.between(v, t)).filter(|f| f.length_m as f64 <= p.max_walk_m).map(|f| (ta + f.duration_s(p.walk_speed_mps), f.duration_s(p.walk_speed_mps))).min()
+}
+
+fn rides_on(net: &Network, nodes: &[u32]) -> u32 {
+    nodes.windows(2).filter(|w| matches!((decode(net, w[0]).1, decode(net, w[1]).1), (Node::Wait(_), Node::Ride(_)))).count() as u32
+}
+
+fn direct_walk(tt: &Timetable, ends: &Endpoints, depart_s: u32, p: &Params) -> Option<Journey> {
+    let walk = tt.walk(p.step_free.walk_profile());
+    let mut best: Option<(u32, StopIdx, StopIdx)> = None;
+    for &o in &ends.origins {
+        if ends.targets.contains(&o) {
+            best = Some((0, o, o));
+            break;
+        }
+        for &t in &ends.targets {
+            if let Some(f) = walk.between(o, t).filter(|f| f.length_m as f64 <= p.max_walk_m) {
+                let d = f.duration_s(p.walk_speed_mps);
+                if best.is_none_or(|b| d < b.0) {
+                    best = Some((d, o, t));
+                }
+            }
+        }
+    }
+    best.map(|(d, o, t)| {
+        let wc = if p.walk_weight == 1.0 { d } else { (d as f64 * p.walk_weight).round() as u32 };
+        Journey { nodes: vec![], arrival_s: depart_s + d, cost_s: depart_s + wc, rides: 0, direct_walk: Some((o, t, d)) }
+    })
+}
+
+/// The best journey leaving at or after `depart_s`, by generalised cost.
+pub fn earliest(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) -> Option<Journey> {
+    let ride = earliest_rides_only(tt, net, st, ends, depart_s, p);
+    let walk = direct_walk(tt, ends, depart_s, p);
+    match (ride, walk) {
+        (Some(r), Some(w)) => Some(if w.cost_s <= r.cost_s { w } else { r }),
+        (r, w) => r.or(w),
+    }
+}
+
+/// When the rider must leave the origin for `j` (latest, given its first boarding).
+pub fn departure_of(tt: &Timetable, net: &Network, ends: &Endpoints, j: &Journey, p: &Params, depart_s: u32) -> u32 {
+    if j.direct_walk.is_some() {
+        return depart_s;
+    }
+    let Some(&first) = j.nodes.first() else { return depart_s };
+    let Node::Wait(pos) = decode(net, first).1 else { return depart_s };
+    // The first boarding is the first W→R step.
+    let board = j.nodes.windows(2).find_map(|w| match (decode(net, w[0]).1, decode(net, w[1]).1) {
+        (Node::Wait(_), Node::Ride(e)) => Some(e),
+        _ => None,
+    });
+    let Some(e) = board else { return depart_s };
+    let s = net.stop[net.by_stop[pos as usize] as usize];
+    let access = access_walk_s(tt, ends, s, p).unwrap_or(0);
+    net.dep[e as usize].saturating_sub(access).max(depart_s)
+}
+
+/// Walking time from the nearest origin to `s` (0 when `s` is an origin).
+pub fn access_walk_s(tt: &Timetable, ends: &Endpoints, s: StopIdx, p: &Params) -> Option<u32> {
+    if ends.origins.contains(&s) {
+        return Some(0);
+    }
+    let walk = tt.walk(p.step_free.walk_profile());
+    ends.origins.iter().filter_map(|&o| walk.between(o, s)).filter(|f| f.length_m as f64 <= p.max_walk_m).map(|f| f.duration_s(p.walk_speed_mps)).min()
+}
+
+/// Up to `k` options: the best journey leaving at or after `depart_s`, then the best leaving after
+/// that one's departure, and so on ("next K departures"). A walk-only journey is listed once.
+pub fn options(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params, k: usize) -> Vec<Journey> {
+    let mut out: Vec<Journey> = Vec::new();
+    let mut t = depart_s;
+    let mut allow_walk = true;
+    while out.len() < k {
+        let found = if allow_walk { earliest(tt, net, st, ends, t, p) } else { earliest_rides_only(tt, net, st, ends, t, p) };
+        let Some(j) = found else { break };
+        if j.direct_walk.is_some() {
+            allow_walk = false;
+            out.push(j);
+            continue;
+        }
+        t = departure_of(tt, net, ends, &j, p, t) + 1;
+        if !out.iter().any(|o| o.nodes == j.nodes) {
+            out.push(j);
+        }
+    }
+    out
+}
+
+fn earliest_rides_only(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) -> Option<Journey> {
+    run(tt, net, st, ends, depart_s, p, 1, Goal::Target);
+    let sink = st.sink(0);
+    let c = st.cost_of(sink)?;
+    let nodes = st.trace(sink);
+    let (arrival_s, _) = sink_arrival(net, tt, st, p, ends, sink)?;
+    let rides = rides_on(net, &nodes);
+    Some(Journey { cost_s: c - p.transfer_penalty_s * rides.min(1), nodes, arrival_s, rides, direct_walk: None })
+}
+
+/// Pareto set over (arrival time, number of rides), fewest rides first. Runs a layered search
+/// (layer = rides so far) with no penalty, so its memory grows with `max_rides`.
+pub fn pareto(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params, max_rides: u32) -> Vec<Journey> {
+    let mut q = p.clone();
+    q.transfer_penalty_s = 0;
+    run(tt, net, st, ends, depart_s, &q, max_rides + 1, Goal::Target);
+    let mut out: Vec<Journey> = Vec::new();
+    if let Some(w) = direct_walk(tt, ends, depart_s, &q) {
+        out.push(w);
+    }
+    for layer in 1..=max_rides {
+        let sink = st.sink(layer);
+        if st.cost_of(sink).is_none() {
+            continue;
+        }
+        let nodes = st.trace(sink);
+        let Some((arrival_s, _)) = sink_arrival(net, tt, st, &q, ends, sink) else { continue };
+        if out.last().is_some_and(|b| b.arrival_s <= arrival_s) {
+            continue;
+        }
+        out.push(Journey { cost_s: arrival_s, arrival_s, rides: layer, nodes, direct_walk: None });
+    }
+    out
+}
+
+/// Earliest arrival at every stop from the origins leaving at `depart_s` (u32::MAX: not reached
+/// within the time limit). Costs of all graph nodes stay readable in `st` afterwards.
+pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, origins: &[StopIdx], depart_s: u32, p: &Params) -> &'s [u32] {
+    let ends = Endpoints { origins: origins.to_vec(), targets: vec![] };
+    run(tt, net, st, &ends, depart_s, p, 1, Goal::All);
+    &st.stop_arrival[..tt.stops.len()]
+}
+
+/// Runs a target search and keeps all state, for tests that compare node costs.
+pub fn run_to_target(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) {
+    run(tt, net, st, ends, depart_s, p, 1, Goal::Target);
+}
+
+/// Runs a search that settles every node within the time limit, keeping all state.
+pub fn run_all(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) {
+    run(tt, net, st, ends, depart_s, p, 1, Goal::All);
+}
+
+/// The outgoing edges of a node with their costs, as the search relaxes them (for oracle tests).
+pub fn edges_of(tt: &Timetable, net: &Network, ends: &Endpoints, p: &Params, node: u32, out: &mut Vec<(u32, u32)>) {
+    out.clear();
+    let e_count = net.events() as u32;
+    let per = 2 * e_count + 1;
+    let walk = tt.walk(p.step_free.walk_profile());
+    let mask = p.step_free.event_mask();
+    let ok = |e: usize| mask == 0 || net.flags[e] & mask != 0;
+    let enter = |s: StopIdx, t: u32, extra: u32, out: &mut Vec<(u32, u32)>, from_t: u32| {
+        if let Some(q) = net.first_departure(s, t) {
+            let dep = net.dep[net.by_stop[q as usize] as usize];
+            out.push((q, (dep - from_t) + extra));
+        }
+    };
+    match decode(net, node).1 {
+        Node::Wait(pos) => {
+            let ev = net.by_stop[pos as usize] as usize;
+            let s = net.stop[ev];
+            if pos + 1 < net.stop_first[s.idx() + 1] {
+                out.push((node + 1, net.dep[net.by_stop[pos as usize + 1] as usize] - net.dep[ev]));
+            }
+            if net.flags[ev] & (NO_PICKUP | LAST_OF_TRIP) == 0 && ok(ev) {
+                out.push((e_count + ev as u32, p.transfer_penalty_s));
+            }
+        }
+        Node::Ride(e) => {
+            let e = e as usize;
+            let t = net.dep[e];
+            let e2 = e + 1;
+            if net.flags[e2] & LAST_OF_TRIP == 0 {
+                out.push((node + 1, net.dep[e2] - t));
+            }
+            if net.flags[e2] & NO_DROP_OFF == 0 && ok(e2) {
+                let ta = net.arr[e2];
+                let v = net.stop[e2];
+                if ends.targets.contains(&v) {
+                    out.push((per - 1, ta - t));
+                }
+                if let Some(mt) = tt.stop_transfer_s(v, p.transfer_s()) {
+                    enter(v, ta + mt, 0, out, t);
+                }
+                for f in walk.from(v) {
+                    if f.length_m as f64 <= p.max_walk_m {
+                        let d = f.duration_s(p.walk_speed_mps);
+                        let wc = if p.walk_weight == 1.0 { d } else { (d as f64 * p.walk_weight).round() as u32 };
+                        if ends.targets.contains(&f.to) {
+                            out.push((per - 1, ta - t + wc));
+                        }
+                        if let Some(q) = net.first_departure(f.to, ta + d) {
+                            let dep = net.dep[net.by_stop[q as usize] as usize];
+                            out.push((q, (ta - t) + wc + (dep - ta - d)));
+                        }
+                    }
+                }
+            }
+        }
+        Node::Sink => {}
+    }
+}

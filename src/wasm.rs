@@ -1,0 +1,119 @@
+//! The WASM shell: the only code that knows about JavaScript. Values cross as plain objects
+//! through serde-wasm-bindgen, in the shapes documented in DEVELOPERS.md.
+
+use serde::Serialize;
+use wasm_bindgen::prelude::*;
+
+use crate::engine::{Engine as Core, PlanQuery};
+use crate::error::FeedIssue;
+use crate::timetable::FeedMeta;
+
+#[wasm_bindgen]
+pub struct Engine {
+    core: Core,
+}
+
+#[derive(Serialize)]
+struct LoadReport<'a> {
+    feed: &'a str,
+    stops: usize,
+    routes: usize,
+    trips: usize,
+    stop_events: usize,
+    warnings: &'a [FeedIssue],
+    warnings_total: u64,
+    first_date: Option<String>,
+    last_date: Option<String>,
+    timezone: &'a str,
+}
+
+fn report(m: &FeedMeta) -> LoadReport<'_> {
+    LoadReport {
+        feed: &m.name,
+        stops: m.stops,
+        routes: m.routes,
+        trips: m.trips,
+        stop_events: m.stop_events,
+        warnings: &m.warnings.issues,
+        warnings_total: m.warnings.total,
+        first_date: m.first_date.map(|d| d.to_string()),
+        last_date: m.last_date.map(|d| d.to_string()),
+        timezone: m.timezone.name(),
+    }
+}
+
+fn to_js<T: Serialize>(v: &T) -> Result<JsValue, JsValue> {
+    v.serialize(&serde_wasm_bindgen::Serializer::json_compatible()).map_err(|e| JsValue::from_str(&e.to_string()))
+}
+
+#[derive(Serialize)]
+struct QueryFailure {
+    message: String,
+    #[serde(flatten)]
+    detail: crate::error::QueryError,
+}
+
+#[wasm_bindgen]
+impl Engine {
+    #[wasm_bindgen(constructor)]
+    pub fn new() -> Engine {
+        Engine { core: Core::new() }
+    }
+
+    /// Loads a GTFS zip. Throws a `FeedIssue` object on a fatal problem; the feeds loaded before
+    /// stay loaded.
+    pub fn load_feed(&mut self, name: &str, bytes: &[u8], progress: &js_sys::Function) -> Result<JsValue, JsValue> {
+        let mut cb = |stage: &str, fraction: f32| {
+            let _ = progress.call2(&JsValue::NULL, &JsValue::from_str(stage), &JsValue::from_f64(fraction as f64));
+        };
+        match self.core.load_zip(name, bytes, &mut cb) {
+            Ok(meta) => to_js(&report(meta)),
+            Err(e) => Err(to_js(&e.0)?),
+        }
+    }
+
+    pub fn remove_feed(&mut self, name: &str) -> bool {
+        self.core.remove_feed(name)
+    }
+
+    pub fn feeds(&self) -> Result<JsValue, JsValue> {
+        to_js(&self.core.tt.feeds.iter().map(report).collect::<Vec<_>>())
+    }
+
+    pub fn search_stops(&self, text: &str, limit: usize) -> Result<JsValue, JsValue> {
+        to_js(&self.core.search_stops(text, limit))
+    }
+
+    /// Plans a journey. Throws `{ message, ... }` when the query itself is wrong (unknown stop,
+    /// bad date); "no journey" is a normal result.
+    pub fn plan(&mut self, query: JsValue) -> Result<JsValue, JsValue> {
+        let q: PlanQuery = serde_wasm_bindgen::from_value(query).map_err(|e| JsValue::from_str(&format!("bad query: {e}")))?;
+        match self.core.plan(&q) {
+            Ok(r) => to_js(&r),
+            Err(e) => Err(to_js(&QueryFailure { message: e.to_string(), detail: e })?),
+        }
+    }
+
+    pub fn reach(&mut self, from: &str, date: &str, time: &str, step_free: bool, minutes: u32) -> Result<JsValue, JsValue> {
+        let sf = if step_free { crate::search::StepFree::Strict } else { crate::search::StepFree::Off };
+        match self.core.reach(from, date, time, sf, minutes) {
+            Ok(r) => to_js(&r),
+            Err(e) => Err(to_js(&QueryFailure { message: e.to_string(), detail: e })?),
+        }
+    }
+
+    pub fn sketch(&self) -> Result<JsValue, JsValue> {
+        to_js(&self.core.sketch())
+    }
+
+    /// Bytes of the routing structures (timetable events and the current date's graph).
+    pub fn memory_bytes(&self) -> usize {
+        self.core.tt.event_bytes()
+    }
+}
+
+impl Default for Engine {
+    fn default() -> Self {
+        Engine::new()
+    }
+}

@@ -1,0 +1,118 @@
+// The engine's home: a module Worker that owns the one WASM `Engine` instance, so parsing a feed or
+// planning never blocks the page. The page talks to it only through engine-client.js.
+//
+// Protocol (structured-clone messages):
+//   page → worker  { id, op, args }            op: load | remove | feeds | search | plan | sketch
+//   worker → page  { type: 'ready' }           once the WASM module is instantiated
+//                  { type: 'init-failed', error }
+//                  { type: 'progress', id, stage, fraction }   during `load`
+//                  { type: 'result', id, ok: true, value }
+//                  { type: 'result', id, ok: false, error, fatal }
+// `error` is a plain object: a FeedIssue { file, line, field, value, message } when the engine
+// threw one, else { message, name }. `fatal` is true when the WASM instance itself trapped (a
+// Rust panic or out-of-memory); the page then replaces this worker and reloads its feeds.
+// Every engine call is synchronous, so requests are answered strictly in order.
+
+import init, { Engine } from './pkg/timeweave.js';
+
+let engine = null;
+
+const ready = init().then(
+  () => {
+    engine = new Engine();
+    self.postMessage({ type: 'ready' });
+  },
+  (e) => {
+    self.postMessage({ type: 'init-failed', error: describe(e) });
+  },
+);
+
+self.onmessage = async (event) => {
+  await ready;
+  const { id, op, args } = event.data;
+  try {
+    if (!engine) throw new Error('the engine did not start');
+    const value = plain(run(op, args || {}, id));
+    self.postMessage({ type: 'result', id, ok: true, value });
+  } catch (e) {
+    const fatal = e instanceof WebAssembly.RuntimeError;
+    self.postMessage({ type: 'result', id, ok: false, error: describe(e), fatal });
+  }
+};
+
+function run(op, args, id) {
+  switch (op) {
+    case 'load': {
+      let lastStage = '';
+      let lastPost = 0;
+      const progress = (stage, fraction) => {
+        // Throttle the stream of progress calls, but always pass on a new stage.
+        const now = performance.now();
+        if (stage === lastStage && now - lastPost < 50) return;
+        lastStage = stage;
+        lastPost = now;
+        self.postMessage({ type: 'progress', id, stage: String(stage), fraction: Number(fraction) });
+      };
+      return engine.load_feed(args.name, new Uint8Array(args.bytes), progress);
+    }
+    case 'remove':
+      return engine.remove_feed(args.name);
+    case 'feeds':
+      return engine.feeds();
+    case 'search':
+      return engine.search_stops(args.text, args.limit);
+    case 'plan':
+      return engine.plan(args.query);
+    case 'sketch':
+      return engine.sketch();
+    default:
+      throw new Error(`unknown request "${op}"`);
+  }
+}
+
+/** Turns Maps into plain objects and BigInts into numbers, so the page reads one shape. */
+function plain(v) {
+  if (v === null || v === undefined) return null;
+  if (typeof v === 'bigint') return Number(v);
+  if (v instanceof Map) {
+    const o = {};
+    for (const [k, x] of v) o[String(k)] = plain(x);
+    return o;
+  }
+  if (Array.isArray(v)) return v.map(plain);
+  if (ArrayBuffer.isView(v)) return v;
+  if (typeof v === 'object') {
+    const o = {};
+    for (const k of Object.keys(v)) o[k] = plain(v[k]);
+    return o;
+  }
+  return v;
+}
+
+/** Reduces whatever the engine threw to a FeedIssue-like plain object. */
+function describe(e) {
+  if (e instanceof Error) {
+    return { message: e.message || String(e), name: e.name || 'Error' };
+  }
+  if (typeof e === 'string') {
+    try {
+      const parsed = JSON.parse(e);
+      if (parsed && typeof parsed === 'object') return issue(parsed);
+    } catch { /* not JSON: a plain message */ }
+    return { message: e };
+  }
+  if (e && typeof e === 'object') return issue(plain(e));
+  return { message: String(e) };
+}
+
+function issue(o) {
+  const pick = (k) => (o[k] === undefined ? null : o[k]);
+  const out = {
+    file: pick('file'),
+    line: pick('line'),
+    field: pick('field'),
+    value: pick('value'),
+    message: o.message != null ? String(o.message) : JSON.stringify(o),
+  };
+  return out;
+}
