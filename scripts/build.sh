@@ -7,9 +7,11 @@ scripts/setup.sh
 cargo build --release --bin timeweave
 cargo build --lib --target wasm32-unknown-unknown --profile release-wasm
 wasm-bindgen --target web --no-typescript --out-dir www/pkg target/wasm32-unknown-unknown/release-wasm/timeweave.wasm
-if command -v wasm-opt >/dev/null; then
-  wasm-opt -Oz --enable-bulk-memory --enable-nontrapping-float-to-int --enable-sign-ext --enable-mutable-globals \
-    www/pkg/timeweave_bg.wasm -o www/pkg/timeweave_bg.wasm.opt && mv www/pkg/timeweave_bg.wasm.opt www/pkg/timeweave_bg.wasm
+# wasm-opt from npm's binaryen: Debian's (version 108) cannot parse what current rustc emits.
+WASM_OPT=tests/browser/node_modules/.bin/wasm-opt
+if [ -x "$WASM_OPT" ] && [ "${TIMEWEAVE_NO_WASM_OPT:-}" != 1 ]; then
+  "$WASM_OPT" -Oz --enable-bulk-memory --enable-bulk-memory-opt --enable-nontrapping-float-to-int --enable-sign-ext --enable-mutable-globals --enable-reference-types --enable-multivalue --enable-gc www/pkg/timeweave_bg.wasm -o www/pkg/timeweave_bg.wasm.opt
+  mv www/pkg/timeweave_bg.wasm.opt www/pkg/timeweave_bg.wasm
 fi
 echo "build: www/pkg/timeweave_bg.wasm is $(stat -c %s www/pkg/timeweave_bg.wasm) bytes"
 

@@ -20,7 +20,6 @@ fi
 
 need_apt=()
 [ -x /usr/bin/chromium ] || need_apt+=(chromium)
-command -v wasm-opt >/dev/null || need_apt+=(binaryen)
 if [ ${#need_apt[@]} -gt 0 ]; then
   echo "setup: installing ${need_apt[*]} from Debian"
   SUDO=""; [ "$(id -u)" = 0 ] || SUDO=sudo
@@ -28,7 +27,7 @@ if [ ${#need_apt[@]} -gt 0 ]; then
   DEBIAN_FRONTEND=noninteractive $SUDO apt-get install -y -qq "${need_apt[@]}"
 fi
 
-if [ -f tests/browser/package.json ] && [ ! -d tests/browser/node_modules/playwright-core ]; then
+if [ -f tests/browser/package.json ] && { [ ! -d tests/browser/node_modules/playwright-core ] || [ ! -d tests/browser/node_modules/binaryen ]; }; then
   echo "setup: installing npm packages for the browser tests"
   (cd tests/browser && if [ -f package-lock.json ]; then npm ci --no-audit --no-fund; else npm install --no-audit --no-fund; fi)
 fi

@@ -16,6 +16,8 @@ pub mod timetable;
 
 #[cfg(not(target_arch = "wasm32"))]
 pub mod serve;
+#[cfg(not(target_arch = "wasm32"))]
+pub mod synth;
 
 #[cfg(target_arch = "wasm32")]
 pub mod wasm;

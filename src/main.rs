@@ -91,6 +91,16 @@ enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Write a generated, deterministic GTFS feed of an invented city (for tests and benchmarks).
+    Synth {
+        /// small (≈ 50 k stop times), region (≈ 600 k) or metro (≈ 5 M).
+        #[arg(long, default_value = "small")]
+        preset: String,
+        #[arg(long, default_value_t = 1)]
+        seed: u64,
+        #[arg(long)]
+        out: PathBuf,
+    },
     /// Serve the web page (www/) and the WASM build on localhost.
     Serve {
         #[arg(long, default_value_t = 8080)]
@@ -203,6 +213,13 @@ fn run(cli: Cli) -> Result<(), String> {
                     println!("  … and {} more warnings", f.warnings.total as usize - f.warnings.issues.len());
                 }
             }
+            Ok(())
+        }
+        Command::Synth { preset, seed, out } => {
+            let preset: timeweave::synth::Preset = preset.parse().map_err(|e| format!("error: {e}"))?;
+            let file = std::fs::File::create(&out).map_err(|e| format!("error: cannot create {}: {e}", out.display()))?;
+            let stats = timeweave::synth::write_feed(preset, seed, std::io::BufWriter::new(file)).map_err(|e| format!("error: {e}"))?;
+            println!("{}: {} stops, {} routes, {} trips, {} stop times, {} bytes", out.display(), stats.stops, stats.routes, stats.trips, stats.stop_times, stats.bytes);
             Ok(())
         }
         Command::Serve { port, root, feeds } => timeweave::serve::serve(&root, port, &feeds).map_err(|e| format!("error: {e}")),

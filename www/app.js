@@ -349,11 +349,14 @@ function renderFeeds() {
         el('button', { type: 'button', class: 'btn btn-small', 'data-remove': name, 'aria-label': `Remove ${name}`, text: 'Remove' })),
       el('p', { class: 'feed-counts', text: describeCounts(r) }),
       first || last ? el('p', { class: 'feed-dates', text: `Service dates ${first || '?'} to ${last || '?'}` }) : null);
+    if (r.timezone) li.append(el('p', { class: 'feed-dates', text: `Time zone ${r.timezone}` }));
     const warnings = Array.isArray(r.warnings) ? r.warnings : [];
+    const total = Number.isFinite(r.warnings_total) ? Math.max(r.warnings_total, warnings.length) : warnings.length;
     if (warnings.length) {
       const list = el('ul', { class: 'warn-list' });
       for (const w of warnings) list.append(el('li', { text: issueText(w) }));
-      li.append(el('details', { class: 'feed-warnings' }, el('summary', { text: plural(warnings.length, 'warning', 'warnings') }), list));
+      const label = total > warnings.length ? `${plural(total, 'warning', 'warnings')} (first ${warnings.length} listed)` : plural(total, 'warning', 'warnings');
+      li.append(el('details', { class: 'feed-warnings' }, el('summary', { text: label }), list));
     } else {
       li.append(el('p', { class: 'feed-ok', text: 'No warnings.' }));
     }
@@ -625,12 +628,23 @@ function fillForm(q) {
   ui.n.value = q.n ?? '';
 }
 
-function runPendingQuery() {
+/** A readable label for a stop id from the address (the sketch lists stations, not platforms). */
+async function stopLabel(id) {
+  try {
+    const matches = (await client.searchStops(id, 5)) || [];
+    const m = matches.find((x) => x.id === id);
+    if (m) return labelFor(m);
+  } catch { /* fall back below */ }
+  return state.stopNames.get(id) || id;
+}
+
+async function runPendingQuery() {
   const q = state.pendingQuery;
   if (!q) return;
   state.pendingQuery = null;
-  fromBox.set(q.from, state.stopNames.get(q.from) || q.from);
-  toBox.set(q.to, state.stopNames.get(q.to) || q.to);
+  const [fromLabel, toLabel] = await Promise.all([stopLabel(q.from), stopLabel(q.to)]);
+  fromBox.set(q.from, fromLabel);
+  toBox.set(q.to, toLabel);
   fillForm(q);
   if (!q.date) ui.date.value = ui.date.value || todayIso();
   if (!q.time) ui.time.value = ui.time.value || '08:00';
@@ -719,10 +733,7 @@ function renderPlan(result, query) {
 
   // Bring the options into view unless their heading already is.
   const top = ui.resultsPanel.getBoundingClientRect().top;
-  if (top < 0 || top > window.innerHeight - 120) {
-    const smooth = window.matchMedia('(prefers-reduced-motion: no-preference)').matches;
-    ui.resultsPanel.scrollIntoView({ block: 'start', behavior: smooth ? 'smooth' : 'auto' });
-  }
+  if (top < 0 || top > window.innerHeight - 120) ui.resultsPanel.scrollIntoView({ block: 'start' });
 
   if (itins.length) {
     select(0, false);
@@ -870,7 +881,13 @@ function legItem(leg) {
   const sf = leg.step_free || {};
   const sfLine = el('div', { class: 'leg-sf' }, stepFreeBadge(sf.status));
   const reasons = Array.isArray(sf.reasons) ? sf.reasons : [];
-  if (reasons.length) sfLine.append(el('ul', { class: 'sf-reasons' }, ...reasons.map((r) => el('li', { text: String(r) }))));
+  const problems = new Set(Array.isArray(sf.problems) ? sf.problems.map(String) : []);
+  if (reasons.length) {
+    // Reasons that stand in the way of a step-free journey are marked, not only coloured.
+    sfLine.append(el('ul', { class: 'sf-reasons' }, ...reasons.map((r) => (problems.has(String(r))
+      ? el('li', { class: 'sf-problem' }, el('strong', { text: 'Barrier: ' }), String(r))
+      : el('li', { text: String(r) })))));
+  }
   body.append(sfLine);
   return li;
 }

@@ -93,6 +93,7 @@ export class StopCombobox {
     this.matches = matches;
     this.active = -1;
     this.#render();
+    this.listbox.dataset.query = text; // which text these suggestions answer
     if (document.activeElement === this.input) this.#open();
     this.hint.textContent = matches.length
       ? `${matches.length} ${matches.length === 1 ? 'stop matches' : 'stops match'}; use the down arrow to choose.`
@@ -191,7 +192,9 @@ export function describeMatch(m) {
   const bits = [];
   if (m.station && m.station !== m.name) bits.push(m.station);
   if (m.platform) bits.push(`platform ${m.platform}`);
-  if (m.kind && m.kind !== 'stop') bits.push(String(m.kind));
+  // GTFS location_type: a station (1) groups platforms; a plain stop or platform (0) says nothing.
+  if (m.kind === 'station') bits.push('station, all platforms');
+  else if (m.kind && !['platform', 'stop'].includes(m.kind)) bits.push(String(m.kind).replace(/_/g, ' '));
   if (m.code) bits.push(`code ${m.code}`);
   return bits.join(' · ');
 }

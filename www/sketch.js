@@ -114,7 +114,9 @@ export function drawSketch(svg, data, itinerary) {
     if (seen.has(key)) continue;
     seen.add(key);
     const c = node('circle', { cx: x.toFixed(1), cy: y.toFixed(1), r: (2.6 * px).toFixed(2), class: 'sk-stop', 'stroke-width': (1.2 * px).toFixed(2) });
-    c.append(node('title', {}, st.station && st.station !== st.name ? `${st.name} (${st.station})` : st.name));
+    // `station` is true for a GTFS station (location_type 1); older engines sent its name.
+    const extra = st.station === true ? ' (station)' : typeof st.station === 'string' && st.station !== st.name ? ` (${st.station})` : '';
+    c.append(node('title', {}, `${st.name}${extra}`));
     gStops.append(c);
   }
   svg.append(gLines, gStops);

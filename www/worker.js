@@ -53,7 +53,8 @@ function run(op, args, id) {
         lastPost = now;
         self.postMessage({ type: 'progress', id, stage: String(stage), fraction: Number(fraction) });
       };
-      return engine.load_feed(args.name, new Uint8Array(args.bytes), progress);
+      const bytes = args.bytes instanceof Uint8Array ? args.bytes : new Uint8Array(args.bytes);
+      return engine.load_feed(args.name, bytes, progress);
     }
     case 'remove':
       return engine.remove_feed(args.name);

@@ -40,7 +40,7 @@ test('axe-core WCAG 2.1 AA rules: no serious or critical violations in any main 
     assert.deepEqual(await seriousViolations(page), [], `feeds loaded at ${viewport.width} px`);
 
     // demo-data/README.md Case B with strict step-free: walk paths, step-free notes and caution.
-    await h.planViaForm(page, { from: 'Tram Place', fromPick: 'A', to: 'Tollimere', date: '2026-12-02', time: '08:00', sf: 'strict' });
+    await h.planViaForm(page, { from: 'OCT_TPL_A', fromPick: 'Tram Place', to: 'Tollimere', date: '2026-12-02', time: '08:00', sf: 'strict' });
     for (const d of await page.$$('#detail details')) await d.evaluate((e) => { e.open = true; });
     // An open suggestion list is part of the audit too.
     await page.focus('#to');
@@ -52,7 +52,7 @@ test('axe-core WCAG 2.1 AA rules: no serious or critical violations in any main 
     await page.keyboard.press('Escape');
 
     // demo-data/README.md Case C: the no-journey panel.
-    await h.planViaForm(page, { from: 'Tram Place', fromPick: 'A', to: 'Mossgrave', date: '2026-12-02', time: '08:00', sf: 'strict' });
+    await h.planViaForm(page, { from: 'OCT_TPL_A', fromPick: 'Tram Place', to: 'Mossgrave', date: '2026-12-02', time: '08:00', sf: 'strict' });
     assert.deepEqual(await seriousViolations(page), [], `no journey at ${viewport.width} px`);
 
     // The error panel.

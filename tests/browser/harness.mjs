@@ -44,7 +44,10 @@ export async function startServer() {
     throw new Error(`${BIN} does not exist: build it (cargo build --release) or set TIMEWEAVE_BIN`);
   }
   const port = await freePort();
-  const child = spawn(BIN, ['serve', '--port', String(port)], { cwd: REPO, stdio: ['ignore', 'pipe', 'pipe'] });
+  const args = ['serve', '--port', String(port)];
+  // TIMEWEAVE_SERVE_ROOT serves another copy of the page (e.g. an alternative WASM build).
+  if (process.env.TIMEWEAVE_SERVE_ROOT) args.push('--root', process.env.TIMEWEAVE_SERVE_ROOT);
+  const child = spawn(BIN, args, { cwd: REPO, stdio: ['ignore', 'pipe', 'pipe'] });
   let out = '';
   const url = await new Promise((resolve, reject) => {
     const timer = setTimeout(() => reject(new Error(`server did not report listening within 20 s; output:\n${out}`)), 20000);
@@ -148,7 +151,14 @@ export async function chooseStop(page, inputSel, typed, pick = typed) {
   await page.focus(inputSel);
   await page.keyboard.type(typed, { delay: 15 });
   const listSel = `#${await page.getAttribute(inputSel, 'aria-controls')}`;
-  await page.waitForSelector(`${listSel}:not([hidden]) [role="option"]`, { timeout: 10000 });
+  await page.waitForFunction(
+    ([sel, text]) => {
+      const l = document.querySelector(sel);
+      return l && !l.hidden && l.dataset.query === text && l.querySelector('[role="option"]');
+    },
+    [listSel, typed],
+    { timeout: 10000 },
+  );
   const texts = await page.$$eval(`${listSel} [role="option"]`, (os) => os.map((o) => o.textContent));
   const idx = texts.findIndex((t) => t.includes(pick));
   if (idx < 0) throw new Error(`no suggestion containing "${pick}" for "${typed}": ${JSON.stringify(texts)}`);

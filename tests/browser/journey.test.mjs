@@ -14,7 +14,7 @@ let firstKey;
 
 // The designed journey: demo-data/README.md "Case B", standard search, Wednesday 2026-12-02 08:00.
 const CASE_B = {
-  from: 'Tram Place', fromPick: 'A', to: 'Tollimere', toPick: 'Tollimere',
+  from: 'OCT_TPL_A', fromPick: 'Tram Place', to: 'Tollimere', toPick: 'Tollimere',
   date: '2026-12-02', time: '08:00', n: 3,
 };
 

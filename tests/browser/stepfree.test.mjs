@@ -63,7 +63,7 @@ test('case A: the step-free option changes the train (trip wheelchair_accessible
 
 test('case B: strict step-free avoids the stairs-only entrance', async () => {
   const { page } = rec;
-  const strict = await h.planViaForm(page, { from: 'Tram Place', fromPick: 'A', to: 'Tollimere', date: '2026-12-02', time: '08:00', sf: 'strict' });
+  const strict = await h.planViaForm(page, { from: 'OCT_TPL_A', fromPick: 'Tram Place', to: 'Tollimere', date: '2026-12-02', time: '08:00', sf: 'strict' });
   const it = strict.itineraries[0];
   // demo-data/README.md Case B, strict: Coachyard Street entrance, ramp, gates, elevator; R1_WKD_0_0854 arrives 09:34.
   assert.equal(it.arrive, '09:34');
@@ -77,9 +77,9 @@ test('case B: strict step-free avoids the stairs-only entrance', async () => {
 
 test('case C: no step-free journey to Mossgrave Halt, with the blocker named', async () => {
   const { page } = rec;
-  const off = await h.planViaForm(page, { from: 'Tram Place', fromPick: 'A', to: 'Mossgrave', date: '2026-12-02', time: '08:00', sf: 'off' });
+  const off = await h.planViaForm(page, { from: 'OCT_TPL_A', fromPick: 'Tram Place', to: 'Mossgrave', date: '2026-12-02', time: '08:00', sf: 'off' });
   assert.ok(off.itineraries.length >= 1, 'demo-data/README.md Case C: a standard search finds a journey');
-  const strict = await h.planViaForm(page, { from: 'Tram Place', fromPick: 'A', to: 'Mossgrave', date: '2026-12-02', time: '08:00', sf: 'strict' });
+  const strict = await h.planViaForm(page, { from: 'OCT_TPL_A', fromPick: 'Tram Place', to: 'Mossgrave', date: '2026-12-02', time: '08:00', sf: 'strict' });
   // demo-data/README.md Case C: no_journey.reason = "no_step_free_path".
   assert.equal(strict.itineraries.length, 0);
   assert.equal(strict.no_journey.reason, 'no_step_free_path');

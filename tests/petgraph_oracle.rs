@@ -1,0 +1,213 @@
+//! The engine's Dijkstra against petgraph's on the same time-expanded graph.
+//!
+//! A random feed (a 6 × 4 grid of stops 300 m apart, so neighbours get walking links; a few
+//! hundred trips with random pickup/drop-off and wheelchair values, night trips past 24:00, a
+//! frequencies.txt template and transfers.txt rules) is expanded for one date. Every node's
+//! outgoing edges are read with `search::edges_of` into a `petgraph::Graph`, plus one source node
+//! joined to the waiting nodes where the search's origins enter (`search::run`: at the origin's
+//! first departure at or after the query time, and after each walking link from the origin, at
+//! the cost the search gives them). The node costs of `search::run_all` must equal petgraph's
+//! distances from that source plus the query time, for every node within the time limit, and
+//! nodes past the time limit must be unreached.
+
+mod support;
+
+use chrono::NaiveDate;
+use petgraph::graph::{Graph, NodeIndex};
+use support::{hms, Feed};
+use timeweave::network::{Network, LAST_OF_TRIP};
+use timeweave::search::{self, decode, node_time, Endpoints, Node, Params, SearchState, StepFree};
+use timeweave::timetable::{StopIdx, Timetable};
+use timeweave::Engine;
+
+/// SplitMix64: a small deterministic generator, so the feed is the same on every run.
+struct Rng(u64);
+
+impl Rng {
+    fn next(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^ (z >> 31)
+    }
+    fn below(&mut self, n: u32) -> u32 {
+        (self.next() % n as u64) as u32
+    }
+    fn pick<'a>(&mut self, items: &[&'a str]) -> &'a str {
+        items[self.below(items.len() as u32) as usize]
+    }
+}
+
+const STOPS: u32 = 24;
+
+fn random_feed(seed: u64) -> Feed {
+    let mut rng = Rng(seed);
+    let mut stops = String::from("stop_id,stop_name,stop_lat,stop_lon,wheelchair_boarding\n");
+    for i in 0..STOPS {
+        // 0.0027° of latitude ≈ 300 m; 0.00438° of longitude at 52° N ≈ 300 m.
+        let (row, col) = (i / 6, i % 6);
+        let wb = rng.pick(&["", "0", "1", "1", "1", "2"]);
+        stops += &format!("S{i},Grid stop {i},{:.5},{:.5},{wb}\n", 52.0 + row as f64 * 0.0027, 13.0 + col as f64 * 0.00438);
+    }
+    let mut trips = String::from("route_id,service_id,trip_id,wheelchair_accessible\n");
+    let mut times = String::from("trip_id,arrival_time,departure_time,stop_id,stop_sequence,pickup_type,drop_off_type\n");
+    let mut add_trip = |rng: &mut Rng, id: &str, start: u32| {
+        trips += &format!("R,ALL,{id},{}\n", rng.pick(&["", "1", "1", "1", "2"]));
+        let len = 3 + rng.below(8);
+        let mut stop = rng.below(STOPS);
+        let mut t = start;
+        for seq in 0..len {
+            let dwell = 30 * rng.below(3);
+            let flag = |rng: &mut Rng| if rng.below(10) == 0 { "1" } else { "0" };
+            let (pick, drop) = (flag(rng), flag(rng));
+            times += &format!("{id},{},{},S{stop},{},{pick},{drop}\n", hms(t), hms(t + dwell), seq + 1);
+            t += dwell + 60 + 30 * rng.below(15);
+            stop = (stop + 1 + rng.below(STOPS - 1)) % STOPS;
+        }
+    };
+    for k in 0..260 {
+        let start = 6 * 3600 + 30 * rng.below(8 * 120);
+        add_trip(&mut rng, &format!("T{k}"), start);
+    }
+    // Night trips of the service day, past 24:00:00: on the query date they come from the
+    // previous day's service.
+    for k in 0..15 {
+        let start = 24 * 3600 + 30 * rng.below(3 * 120);
+        add_trip(&mut rng, &format!("N{k}"), start);
+    }
+    add_trip(&mut rng, "FREQ", 6 * 3600);
+    Feed::new("Etc/GMT-1")
+        .one_route()
+        .file("stops.txt", &stops)
+        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+            ALL,1,1,1,1,1,1,1,20260101,20261231")
+        .file("trips.txt", &trips)
+        .file("stop_times.txt", &times)
+        .file("frequencies.txt", "trip_id,start_time,end_time,headway_secs,exact_times\nFREQ,06:00:00,09:00:00,600,1")
+        .file("transfers.txt", "from_stop_id,to_stop_id,transfer_type,min_transfer_time
+            S3,S3,2,300
+            S5,S5,1,
+            S7,S7,3,
+            S0,S1,2,400
+            S2,S3,3,")
+}
+
+/// Position (waiting node) of the first departure at `s` at or after `t`, by a plain scan.
+fn first_at(net: &Network, s: StopIdx, t: u32) -> Option<u32> {
+    (net.stop_first[s.idx()]..net.stop_first[s.idx() + 1]).find(|&p| net.dep[net.by_stop[p as usize] as usize] >= t)
+}
+
+/// Compares one search with petgraph; returns how many nodes were reached.
+fn compare(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u32, p: &Params) -> usize {
+    let ends = Endpoints { origins: origins.to_vec(), targets: vec![] };
+    let mut st = SearchState::new();
+    search::run_all(tt, net, &mut st, &ends, depart_s, p);
+
+    let nodes = 2 * net.events() as u32 + 1;
+    let mut g: Graph<(), u32> = Graph::with_capacity(nodes as usize + 1, 4 * nodes as usize);
+    for _ in 0..nodes {
+        g.add_node(());
+    }
+    let source = g.add_node(());
+    let mut out = Vec::new();
+    for node in 0..nodes {
+        // The ride node of a trip's last event has no incoming edge (staying seated and boarding
+        // both stop before it), and `edges_of` must not be asked about it (see the ignored test).
+        if let Node::Ride(e) = decode(net, node).1 {
+            if net.flags[e as usize] & LAST_OF_TRIP != 0 {
+                continue;
+            }
+        }
+        search::edges_of(tt, net, &ends, p, node, &mut out);
+        for &(to, w) in &out {
+            g.add_edge(NodeIndex::new(node as usize), NodeIndex::new(to as usize), w);
+        }
+    }
+    let dep = |q: u32| net.dep[net.by_stop[q as usize] as usize];
+    let walk_cost = |d: u32| if p.walk_weight == 1.0 { d } else { (d as f64 * p.walk_weight).round() as u32 };
+    for &o in origins {
+        if let Some(q) = first_at(net, o, depart_s) {
+            g.add_edge(source, NodeIndex::new(q as usize), dep(q) - depart_s);
+        }
+        for f in tt.walk(p.step_free.walk_profile()).from(o) {
+            if f.length_m as f64 <= p.max_walk_m {
+                let d = f.duration_s(p.walk_speed_mps);
+                if let Some(q) = first_at(net, f.to, depart_s + d) {
+                    g.add_edge(source, NodeIndex::new(q as usize), walk_cost(d) + (dep(q) - depart_s - d));
+                }
+            }
+        }
+    }
+
+    // petgraph::algo::dijkstra as an independent reference implementation.
+    let dist = petgraph::algo::dijkstra(&g, source, None, |e| *e.weight());
+    let horizon = depart_s + p.max_duration_s;
+    let mut reached = 0;
+    for node in 0..nodes {
+        let engine = st.cost_of(node);
+        let within = node_time(net, node).is_some_and(|t| t <= horizon);
+        if within {
+            let oracle = dist.get(&NodeIndex::new(node as usize)).map(|d| d + depart_s);
+            assert_eq!(engine, oracle, "node {node} ({:?}, time {:?}), query {depart_s} from {origins:?}, {p:?}", decode(net, node).1, node_time(net, node));
+        } else {
+            assert_eq!(engine, None, "node {node} is past the time limit but was reached");
+        }
+        reached += usize::from(engine.is_some());
+    }
+    reached
+}
+
+fn stop(tt: &Timetable, id: &str) -> StopIdx {
+    StopIdx(tt.stops.iter().position(|s| s.id == id).expect("stop") as u32)
+}
+
+#[test]
+fn node_costs_equal_petgraph_dijkstra() {
+    let engine: Engine = random_feed(0x7157_2026).load();
+    let tt = &engine.tt;
+    let date = NaiveDate::from_ymd_opt(2026, 6, 10).expect("date");
+    let net = Network::build(tt, date);
+    assert!(net.events() > 1500, "a graph of a few thousand nodes ({} events)", net.events());
+    assert!(tt.walk_standard.len() > 20, "the grid has walking links");
+
+    let off = Params::default();
+    let mut heavy = Params { transfer_penalty_s: 120, walk_weight: 2.0, ..Params::default() };
+    let mut all_day = Params::default();
+    all_day.max_duration_s = 30 * 3600;
+    heavy.max_walk_m = 500.0;
+    let cases: Vec<(Vec<&str>, u32, Params)> = vec![
+        (vec!["S0"], 7 * 3600, off.clone()),
+        (vec!["S5", "S6"], 6 * 3600 + 1800, heavy),
+        (vec!["S10"], 7 * 3600 + 900, Params::new(StepFree::Strict)),
+        (vec!["S12"], 1200, Params { max_duration_s: 8 * 3600, ..Params::new(StepFree::Lenient) }),
+        (vec!["S3"], 5 * 3600, all_day),
+        (vec!["S7"], 8 * 3600 + 17, Params { transfer_penalty_s: 0, ..off }),
+    ];
+    for (origins, depart_s, p) in cases {
+        let origins: Vec<StopIdx> = origins.iter().map(|id| stop(tt, id)).collect();
+        let reached = compare(tt, &net, &origins, depart_s, &p);
+        assert!(reached > 200, "only {reached} nodes reached from {origins:?} at {depart_s}; the comparison would be weak");
+    }
+}
+
+/// `edges_of` is documented as "the outgoing edges of a node", for oracle tests that enumerate
+/// every node. On the ride node of a trip's last event it reads the event after it, which belongs
+/// to the next trip, or lies past the end of the arrays for the network's last event.
+#[test]
+#[ignore = "engine bug: search::edges_of on Ride(e) where e is the last event of its trip reads event e+1 of another trip (out of bounds for the network's last event) instead of returning no edges"]
+fn edges_of_is_defined_on_every_node() {
+    let engine = random_feed(1).load();
+    let net = Network::build(&engine.tt, NaiveDate::from_ymd_opt(2026, 6, 10).expect("date"));
+    let ends = Endpoints { origins: vec![StopIdx(0)], targets: vec![] };
+    let p = Params::default();
+    let mut out = Vec::new();
+    for node in 0..2 * net.events() as u32 + 1 {
+        search::edges_of(&engine.tt, &net, &ends, &p, node, &mut out);
+        if let Node::Ride(e) = decode(&net, node).1 {
+            if net.flags[e as usize] & LAST_OF_TRIP != 0 {
+                assert!(out.is_empty(), "Ride({e}) is the last event of its trip: no edge leaves it, got {out:?}");
+            }
+        }
+    }
+}
