@@ -11,6 +11,7 @@ pub mod error;
 pub mod ingest;
 pub mod itinerary;
 pub mod network;
+pub mod radix_heap;
 pub mod search;
 pub mod timetable;
 

@@ -39,7 +39,7 @@ pub const STEP_FREE_UNKNOWN: u8 = 32;
 pub struct Instance {
     pub trip: TripIdx,
     /// Seconds from this network's origin to the instance's service-day origin.
-    pub offset_s: i64,
+    pub offset_s: i32,
     /// First network event of the instance.
     pub first: u32,
     /// Index of that event within the trip (events before it were cut off before the origin).
@@ -59,6 +59,9 @@ pub struct Network {
     /// Departures of each stop sorted by time: events `by_stop[stop_first[s]..stop_first[s+1]]`.
     pub stop_first: Vec<u32>,
     pub by_stop: Vec<u32>,
+    /// Departure time of `by_stop[p]`, contiguous so the binary search of a stop's departures
+    /// and the waiting chain read one cache-friendly array.
+    pub by_stop_dep: Vec<u32>,
     /// Trips running on the date itself (not counting the neighbouring days).
     pub trips_today: usize,
 }
@@ -66,7 +69,7 @@ pub struct Network {
 impl Network {
     pub fn build(tt: &Timetable, date: NaiveDate) -> Network {
         let tz = tt.feeds.first().map(|f| f.timezone).unwrap_or(chrono_tz::UTC);
-        let mut net = Network { date, tz, instances: Vec::new(), arr: Vec::new(), dep: Vec::new(), stop: Vec::new(), flags: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), trips_today: 0 };
+        let mut net = Network { date, tz, instances: Vec::new(), arr: Vec::new(), dep: Vec::new(), stop: Vec::new(), flags: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), by_stop_dep: Vec::new(), trips_today: 0 };
         let days = [date - Duration::days(1), date, date + Duration::days(1)];
         // Per feed and day: offset of that service day's origin, and which services run.
         let mut runs: Vec<[bool; 3]> = vec![[false; 3]; tt.services.len()];
@@ -103,7 +106,7 @@ impl Network {
                     continue;
                 }
                 let first = net.arr.len() as u32;
-                net.instances.push(Instance { trip: TripIdx(ti as u32), offset_s: off, first, skip: skip as u32 });
+                net.instances.push(Instance { trip: TripIdx(ti as u32), offset_s: off as i32, first, skip: skip as u32 });
                 let stops_access = |e: usize| tt.stops[tt.ev_stop[e].idx()].wheelchair;
                 for e in ev.start + skip..ev.end {
                     net.arr.push((tt.ev_arr[e] as i64 + off).max(0) as u32);
@@ -138,7 +141,14 @@ impl Network {
             let r = net.stop_first[s] as usize..net.stop_first[s + 1] as usize;
             by_stop[r].sort_unstable_by_key(|&e| (net.dep[e as usize], e));
         }
+        net.by_stop_dep = by_stop.iter().map(|&e| net.dep[e as usize]).collect();
         net.by_stop = by_stop;
+        for v in [&mut net.arr, &mut net.dep] {
+            v.shrink_to_fit();
+        }
+        net.stop.shrink_to_fit();
+        net.flags.shrink_to_fit();
+        net.instances.shrink_to_fit();
         net
     }
 
@@ -150,8 +160,8 @@ impl Network {
     #[inline]
     pub fn first_departure(&self, s: StopIdx, t: u32) -> Option<u32> {
         let (a, b) = (self.stop_first[s.idx()] as usize, self.stop_first[s.idx() + 1] as usize);
-        let deps = &self.by_stop[a..b];
-        let i = deps.partition_point(|&e| self.dep[e as usize] < t);
+        let deps = &self.by_stop_dep[a..b];
+        let i = deps.partition_point(|&d| d < t);
         (i < deps.len()).then_some((a + i) as u32)
     }
 
@@ -169,7 +179,7 @@ impl Network {
 
     /// Bytes held by the graph arrays.
     pub fn bytes(&self) -> usize {
-        self.arr.capacity() * 4 + self.dep.capacity() * 4 + self.stop.capacity() * 4 + self.flags.capacity() + self.by_stop.capacity() * 4 + self.stop_first.capacity() * 4 + self.instances.capacity() * std::mem::size_of::<Instance>()
+        self.arr.capacity() * 4 + self.dep.capacity() * 4 + self.stop.capacity() * 4 + self.flags.capacity() + self.by_stop.capacity() * 4 + self.by_stop_dep.capacity() * 4 + self.stop_first.capacity() * 4 + self.instances.capacity() * std::mem::size_of::<Instance>()
     }
 
     /// The instant of the timeline's origin.

@@ -9,11 +9,9 @@
 //! **Invariant:** a search allocates only when the graph grew since the previous one; buffers are
 //! reused and reset by generation stamps.
 
-use std::cmp::Reverse;
-use std::collections::BinaryHeap;
-
 use serde::Serialize;
 
+use crate::radix_heap::RadixHeap;
 use crate::network::{Network, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
 use crate::timetable::{Footpath, StopIdx, Timetable, WalkProfile, NO_DROP_OFF, NO_PICKUP};
 
@@ -114,17 +112,30 @@ pub struct Journey {
 /// Reusable buffers for searches on one network.
 #[derive(Debug, Default)]
 pub struct SearchState {
-    cost: Vec<u32>,
-    stamp: Vec<u32>,
-    pred: Vec<u32>,
+    /// Per node: (generation stamp, cost, predecessor), together so a relaxation touches one
+    /// cache line.
+    labels: Vec<Label>,
     generation: u32,
-    heap: BinaryHeap<Reverse<(u32, u32)>>,
+    heap: RadixHeap,
     is_target: Vec<u32>,
     stop_arrival: Vec<u32>,
+    /// Per stop, the first alighting label (arrival time, cost − time) of this search; a later
+    /// alighting no earlier and no cheaper in offset is dominated and not expanded.
+    alight: Vec<(u32, u32, u32)>,
+    /// Per stop, the first waiting-chain entry (requested time, cost − time) of this search.
+    entry: Vec<(u32, u32, u32)>,
+    prune: bool,
     /// Nodes per layer (2 × events + sink + spare).
     layer_nodes: u32,
     layers: u32,
     pub settled: u64,
+}
+
+#[derive(Debug, Clone, Copy, Default)]
+struct Label {
+    stamp: u32,
+    cost: u32,
+    pred: u32,
 }
 
 pub const NO_PRED: u32 = u32::MAX;
@@ -141,19 +152,23 @@ impl SearchState {
         self.layer_nodes = 2 * e + 1;
         self.layers = layers;
         let total = (self.layer_nodes * layers) as usize;
-        if self.cost.len() < total {
-            self.cost.resize(total, u32::MAX);
-            self.stamp.resize(total, 0);
-            self.pred.resize(total, NO_PRED);
+        if self.labels.len() < total {
+            self.labels.resize(total, Label { stamp: 0, cost: u32::MAX, pred: NO_PRED });
         }
         if self.is_target.len() < stops {
             self.is_target.resize(stops, 0);
             self.stop_arrival.resize(stops, u32::MAX);
+            self.alight.resize(stops, (0, 0, 0));
+            self.entry.resize(stops, (0, 0, 0));
         }
+        // Domination between labels holds only within one layer.
+        self.prune = layers == 1;
         self.generation = self.generation.wrapping_add(1);
         if self.generation == 0 {
-            self.stamp.iter_mut().for_each(|s| *s = 0);
+            self.labels.iter_mut().for_each(|l| l.stamp = 0);
             self.is_target.iter_mut().for_each(|s| *s = 0);
+            self.alight.iter_mut().for_each(|s| *s = (0, 0, 0));
+            self.entry.iter_mut().for_each(|s| *s = (0, 0, 0));
             self.generation = 1;
         }
         self.heap.clear();
@@ -163,11 +178,11 @@ impl SearchState {
     /// Cost of a node in the last search, `None` when it was not reached.
     #[inline]
     pub fn cost_of(&self, node: u32) -> Option<u32> {
-        (self.stamp.get(node as usize) == Some(&self.generation)).then(|| self.cost[node as usize])
+        self.labels.get(node as usize).filter(|l| l.stamp == self.generation).map(|l| l.cost)
     }
     pub fn pred_of(&self, node: u32) -> u32 {
         if self.cost_of(node).is_some() {
-            self.pred[node as usize]
+            self.labels[node as usize].pred
         } else {
             NO_PRED
         }
@@ -182,12 +197,10 @@ impl SearchState {
 
     #[inline]
     fn relax(&mut self, node: u32, cost: u32, pred: u32) {
-        let i = node as usize;
-        if self.stamp[i] != self.generation || cost < self.cost[i] {
-            self.stamp[i] = self.generation;
-            self.cost[i] = cost;
-            self.pred[i] = pred;
-            self.heap.push(Reverse((cost, node)));
+        let l = &mut self.labels[node as usize];
+        if l.stamp != self.generation || cost < l.cost {
+            *l = Label { stamp: self.generation, cost, pred };
+            self.heap.push(cost, node);
         }
     }
 }
@@ -262,12 +275,51 @@ impl Ctx<'_> {
     /// Enters the waiting chain of `s` at the first departure at or after `t`.
     #[inline]
     fn enter(&self, st: &mut SearchState, layer_base: u32, s: StopIdx, t: u32, cost: u32, pred: u32) {
+        // Entering at time t with cost c gives every later waiting node the cost
+        // c − t + its time, so an earlier entry (time ≤ t) at no greater offset c − t dominates
+        // this one and nothing would change: skip it before searching the departures.
+        let off = cost - t;
+        if st.prune {
+            let (gen, t0, off0) = st.entry[s.idx()];
+            if gen == st.generation {
+                if t0 <= t && off0 <= off {
+                    return;
+                }
+                if t <= t0 && off <= off0 {
+                    st.entry[s.idx()] = (gen, t, off);
+                }
+            } else {
+                st.entry[s.idx()] = (st.generation, t, off);
+            }
+        }
         if let Some(p) = self.net.first_departure(s, t) {
-            let dep = self.net.dep[self.net.by_stop[p as usize] as usize];
+            let dep = self.net.by_stop_dep[p as usize];
             if dep <= self.horizon {
                 st.relax(layer_base + p, cost + (dep - t), pred);
             }
         }
+    }
+
+    /// False when an earlier alighting at `s` (no later, at no greater offset) already did
+    /// everything this one would.
+    #[inline]
+    fn alight_useful(&self, st: &mut SearchState, s: StopIdx, ta: u32, at: u32) -> bool {
+        if !st.prune {
+            return true;
+        }
+        let off = at - ta;
+        let (gen, ta0, off0) = st.alight[s.idx()];
+        if gen == st.generation {
+            if ta0 <= ta && off0 <= off {
+                return false;
+            }
+            if ta <= ta0 && off <= off0 {
+                st.alight[s.idx()] = (gen, ta, off);
+            }
+        } else {
+            st.alight[s.idx()] = (st.generation, ta, off);
+        }
+        true
     }
 
     fn record_arrival(&self, st: &mut SearchState, s: StopIdx, t: u32) {
@@ -301,8 +353,8 @@ fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, de
     }
     let per = st.layer_nodes;
     let mut sinks_left = layers;
-    while let Some(Reverse((c, node))) = st.heap.pop() {
-        if c > st.cost[node as usize] {
+    while let Some((c, node)) = st.heap.pop() {
+        if c > st.labels[node as usize].cost {
             continue;
         }
         st.settled += 1;
@@ -313,10 +365,10 @@ fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, de
             // Waiting node W(p).
             let pos = local;
             let ev = net.by_stop[pos as usize] as usize;
-            let t = net.dep[ev];
+            let t = net.by_stop_dep[pos as usize];
             let s = net.stop[ev];
             if pos + 1 < net.stop_first[s.idx() + 1] {
-                let nt = net.dep[net.by_stop[pos as usize + 1] as usize];
+                let nt = net.by_stop_dep[pos as usize + 1];
                 if nt <= cx.horizon {
                     st.relax(node + 1, c + (nt - t), node);
                 }
@@ -345,6 +397,9 @@ fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, de
             }
             let v = net.stop[e2];
             let at = c + (ta - t);
+            if !cx.alight_useful(st, v, ta, at) {
+                continue;
+            }
             cx.record_arrival(st, v, ta);
             if st.is_target[v.idx()] == gen {
                 st.relax(base + per - 1, at, node);
@@ -380,7 +435,7 @@ impl SearchState {
     fn trace(&self, sink: u32) -> Vec<u32> {
         let mut nodes = vec![sink];
         let mut cur = sink;
-        while let Some(&p) = self.pred.get(cur as usize) {
+        while let Some(p) = self.labels.get(cur as usize).map(|l| l.pred) {
             if p == FROM_ORIGIN || p == NO_PRED {
                 break;
             }
