@@ -125,6 +125,19 @@ fn load(feeds: &[PathBuf], quiet: bool) -> Result<Engine, String> {
     Ok(engine)
 }
 
+/// Writes to stdout; a closed pipe (`| head`) ends the output quietly instead of panicking.
+fn say(text: &str) {
+    use std::io::Write;
+    let mut out = std::io::stdout().lock();
+    if out.write_all(text.as_bytes()).and_then(|_| out.write_all(b"\n")).is_err() {
+        std::process::exit(0);
+    }
+}
+
+macro_rules! println {
+    ($($t:tt)*) => { say(&format!($($t)*)) };
+}
+
 fn main() -> ExitCode {
     match run(Cli::parse()) {
         Ok(()) => ExitCode::SUCCESS,
@@ -164,7 +177,7 @@ fn run(cli: Cli) -> Result<(), String> {
             if as_json {
                 json(&result)
             } else {
-                print!("{}", present_plan(&result));
+                say(present_plan(&result).trim_end());
                 Ok(())
             }
         }

@@ -53,6 +53,7 @@ const ui = {
   detail: $('detail'),
   detailHeading: $('detail-heading'),
   sketch: $('sketch'),
+  sketchFit: $('sketch-fit'),
 };
 
 const state = {
@@ -65,6 +66,7 @@ const state = {
   lastPlan: null,
   selected: -1,
   sketch: null,
+  sketchFit: true,
   stopNames: new Map(),
   dateTouched: false,
   plans: 0,
@@ -432,8 +434,15 @@ async function refreshSketch() {
 
 function redrawSketch() {
   const itin = state.lastPlan && state.selected >= 0 ? (state.lastPlan.itineraries || [])[state.selected] : null;
-  drawSketch(ui.sketch, state.sketch, itin || null);
+  ui.sketchFit.disabled = !itin;
+  drawSketch(ui.sketch, state.sketch, itin || null, state.sketchFit);
 }
+
+ui.sketchFit.addEventListener('click', () => {
+  state.sketchFit = !state.sketchFit;
+  ui.sketchFit.setAttribute('aria-pressed', String(state.sketchFit));
+  redrawSketch();
+});
 
 let resizeTimer = 0;
 new ResizeObserver(() => {
@@ -818,7 +827,8 @@ function renderDetail(it) {
   const box = ui.detail;
   box.replaceChildren();
   if (!it) {
-    box.append(el('p', { class: 'hint', text: 'Choose an option to see its legs.' }));
+    const none = state.lastPlan && !(state.lastPlan.itineraries || []).length;
+    box.append(el('p', { class: 'hint', text: none ? 'No journey to show: see the options panel for why.' : 'Choose an option to see its legs.' }));
     return;
   }
   box.append(el('p', { class: 'detail-sum' },
@@ -885,7 +895,7 @@ function legItem(leg) {
   if (reasons.length) {
     // Reasons that stand in the way of a step-free journey are marked, not only coloured.
     sfLine.append(el('ul', { class: 'sf-reasons' }, ...reasons.map((r) => (problems.has(String(r))
-      ? el('li', { class: 'sf-problem' }, el('strong', { text: 'Barrier: ' }), String(r))
+      ? el('li', { class: 'sf-problem' }, el('strong', { text: sf.status === 'no' ? 'Barrier: ' : 'Not recorded: ' }), String(r))
       : el('li', { text: String(r) })))));
   }
   body.append(sfLine);

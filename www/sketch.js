@@ -65,28 +65,72 @@ function pointsAttr(pts) {
   return pts.map(([x, y]) => `${x.toFixed(1)},${y.toFixed(1)}`).join(' ');
 }
 
+/** Grows a rectangle about its centre so that its height/width ratio lies within [lo, hi]. */
+function clampAspect(r, lo, hi) {
+  const cx = r.x + r.w / 2;
+  const cy = r.y + r.h / 2;
+  let { w, h } = r;
+  if (h / w < lo) h = w * lo;
+  if (h / w > hi) w = h / hi;
+  return { x: cx - w / 2, y: cy - h / 2, w, h };
+}
+
+/** Projected points of an itinerary: every leg's ends and the intermediate stops known to the sketch. */
+function itineraryPoints(itin, proj, stopById) {
+  const pts = [];
+  for (const leg of itin.legs) {
+    const a = placeXY(leg.from, proj, stopById);
+    if (a) pts.push(a);
+    for (const s of leg.intermediate_stops || []) {
+      const st = stopById.get(s.stop_id);
+      if (st && Number.isFinite(st.lat)) pts.push(proj.xy(st.lat, st.lon));
+    }
+    const b = placeXY(leg.to, proj, stopById);
+    if (b) pts.push(b);
+  }
+  return pts;
+}
+
 /**
- * Draws `data` (engine.sketch()) into `svg`, with `itinerary` (or null) on top.
- * `titleText` is a one-line description put in the SVG's <title>.
+ * Draws `data` (engine.sketch()) into `svg`, with `itinerary` (or null) on top. With
+ * `fitJourney` the view is cropped to the itinerary and its surroundings; otherwise the whole
+ * network is shown. Returns a one-line description (also put in the SVG's <title>).
  */
-export function drawSketch(svg, data, itinerary) {
+export function drawSketch(svg, data, itinerary, fitJourney = true) {
   const title = svg.querySelector('title') || node('title', { id: 'sketch-title' });
   svg.replaceChildren(title);
   if (!data || !data.stops || !data.stops.length) {
     title.textContent = 'Network sketch: no timetable loaded.';
     svg.setAttribute('viewBox', `0 0 ${VIEW_W} 300`);
-    return;
+    return title.textContent;
   }
   const proj = projection(data);
   if (!proj) {
     title.textContent = 'Network sketch: the feeds have no usable coordinates.';
-    return;
+    return title.textContent;
   }
-  svg.setAttribute('viewBox', `0 0 ${proj.width} ${proj.height}`);
-  // One CSS pixel in user units, so strokes and labels keep a readable size at any width.
-  const px = proj.width / Math.max(240, svg.clientWidth || 600);
+  const hasTrip = !!(itinerary && itinerary.legs && itinerary.legs.length);
   const stopById = new Map();
   for (const st of data.stops) stopById.set(st.id, st);
+
+  let view = { x: 0, y: 0, w: proj.width, h: proj.height };
+  if (hasTrip && fitJourney) {
+    const pts = itineraryPoints(itinerary, proj, stopById);
+    if (pts.length) {
+      const xs = pts.map((p) => p[0]);
+      const ys = pts.map((p) => p[1]);
+      const x0 = Math.min(...xs);
+      const y0 = Math.min(...ys);
+      const w = Math.max(Math.max(...xs) - x0, 1);
+      const h = Math.max(Math.max(...ys) - y0, 1);
+      const pad = Math.max(w, h) * 0.18 + 0.03 * proj.width;
+      view = { x: x0 - pad, y: y0 - pad, w: w + 2 * pad, h: h + 2 * pad };
+    }
+  }
+  view = clampAspect(view, 0.45, 0.8);
+  svg.setAttribute('viewBox', [view.x, view.y, view.w, view.h].map((v) => v.toFixed(1)).join(' '));
+  // One CSS pixel in user units, so strokes and labels keep a readable size at any zoom and width.
+  const px = view.w / Math.max(240, svg.clientWidth || 600);
 
   const gLines = node('g', { class: 'sk-lines' });
   for (const line of data.lines || []) {
@@ -104,8 +148,7 @@ export function drawSketch(svg, data, itinerary) {
   }
 
   const gStops = node('g', { class: 'sk-stops' });
-  // Draw a station once, not once per platform: stops sharing a parent station and nearly the
-  // same position would only overdraw each other.
+  // Draw stops that would land on the same spot once: a station and its platforms only overdraw.
   const seen = new Set();
   for (const st of data.stops) {
     if (!Number.isFinite(st.lat) || !Number.isFinite(st.lon)) continue;
@@ -114,21 +157,22 @@ export function drawSketch(svg, data, itinerary) {
     if (seen.has(key)) continue;
     seen.add(key);
     const c = node('circle', { cx: x.toFixed(1), cy: y.toFixed(1), r: (2.6 * px).toFixed(2), class: 'sk-stop', 'stroke-width': (1.2 * px).toFixed(2) });
-    // `station` is true for a GTFS station (location_type 1); older engines sent its name.
+    // `station` is true for a GTFS station (location_type 1); a string is a station's name.
     const extra = st.station === true ? ' (station)' : typeof st.station === 'string' && st.station !== st.name ? ` (${st.station})` : '';
     c.append(node('title', {}, `${st.name}${extra}`));
     gStops.append(c);
   }
   svg.append(gLines, gStops);
 
-  let label = `Network sketch: ${seen.size} stop positions, ${(data.lines || []).length} lines.`;
-  if (itinerary && itinerary.legs && itinerary.legs.length) {
-    svg.append(drawItinerary(itinerary, proj, stopById, px));
+  let label = `Network sketch: ${data.stops.length} stops, ${(data.lines || []).length} lines.`;
+  if (hasTrip) {
+    svg.append(drawItinerary(itinerary, proj, stopById, px, view));
     const first = itinerary.legs[0].from;
     const last = itinerary.legs[itinerary.legs.length - 1].to;
-    label += ` Chosen journey from ${first.name} to ${last.name} drawn on top.`;
+    label += ` Chosen journey from ${first.name} to ${last.name} drawn on top${fitJourney ? ', view fitted to it' : ''}.`;
   }
   title.textContent = label;
+  return label;
 }
 
 function placeXY(place, proj, stopById) {
@@ -137,26 +181,45 @@ function placeXY(place, proj, stopById) {
   return st ? proj.xy(st.lat, st.lon) : null;
 }
 
-function drawItinerary(itin, proj, stopById, px) {
+function drawItinerary(itin, proj, stopById, px, view) {
   const g = node('g', { class: 'sk-trip' });
   const labels = node('g', { class: 'sk-labels' });
   const labelled = new Set();
-  const addLabel = (place, xy, cls) => {
-    if (!xy || labelled.has(place.stop_id)) return;
+  const boxes = [];
+  const fs = 13 * px;
+  const overlaps = (b) => boxes.some((o) => b.x < o.x + o.w && o.x < b.x + b.w && b.y < o.y + o.h && o.y < b.y + b.h);
+  // Greedy placement: try four spots around the point; the journey's ends are always labelled,
+  // other stops only where there is room (every stop keeps its name in a <title> tooltip).
+  const addLabel = (place, xy, cls, must) => {
+    if (!xy || !place || labelled.has(place.stop_id)) return;
+    const text = String(place.name || place.stop_id || '');
+    const w = text.length * fs * 0.64; // bold sans-serif runs about 0.6 em a character
+    const h = fs * 1.1;
+    const gap = 9 * px;
+    const tries = [[gap, -gap * 0.6], [gap, gap + h * 0.7], [-gap - w, -gap * 0.6], [-gap - w, gap + h * 0.7]];
+    let spot = null;
+    for (const [dx, dy] of tries) {
+      const b = { x: xy[0] + dx, y: xy[1] + dy - h, w, h };
+      const inside = b.x >= view.x && b.x + b.w <= view.x + view.w && b.y >= view.y && b.y + b.h <= view.y + view.h;
+      if (inside && !overlaps(b)) { spot = b; break; }
+    }
+    if (!spot) {
+      if (!must) return;
+      const leftwards = xy[0] > view.x + view.w * 0.6;
+      spot = { x: leftwards ? xy[0] - gap - w : xy[0] + gap, y: xy[1] - gap * 0.6 - h, w, h };
+    }
     labelled.add(place.stop_id);
-    // Labels near the right edge run leftwards so they stay inside the drawing.
-    const leftwards = xy[0] > proj.width * 0.6;
-    const t = node('text', {
-      x: (xy[0] + (leftwards ? -9 : 9) * px).toFixed(1),
-      y: (xy[1] - 7 * px).toFixed(1),
-      'text-anchor': leftwards ? 'end' : 'start',
-      'font-size': (13 * px).toFixed(1),
+    boxes.push(spot);
+    labels.append(node('text', {
+      x: spot.x.toFixed(1),
+      y: (spot.y + h * 0.85).toFixed(1),
+      'font-size': fs.toFixed(1),
       'stroke-width': (3.5 * px).toFixed(2),
       class: `sk-label ${cls}`,
-    }, place.name);
-    labels.append(t);
+    }, text));
   };
 
+  const marks = [];
   for (const leg of itin.legs) {
     const a = placeXY(leg.from, proj, stopById);
     const b = placeXY(leg.to, proj, stopById);
@@ -171,25 +234,26 @@ function drawItinerary(itin, proj, stopById, px) {
       const color = hexColor(leg.route && leg.route.color) || '#5c6670';
       g.append(node('polyline', { points: pointsAttr(pts), class: 'sk-trip-casing', 'stroke-width': (9 * px).toFixed(2) }));
       g.append(node('polyline', { points: pointsAttr(pts), stroke: color, class: 'sk-trip-ride', 'stroke-width': (4.5 * px).toFixed(2) }));
-      addLabel(leg.from, a, 'sk-label-board');
-      addLabel(leg.to, b, 'sk-label-alight');
+      marks.push([leg.from, a], [leg.to, b]);
     } else {
       g.append(node('polyline', { points: pointsAttr(pts), class: 'sk-trip-walk', 'stroke-width': (3 * px).toFixed(2), 'stroke-dasharray': `${(5 * px).toFixed(1)} ${(4 * px).toFixed(1)}` }));
     }
   }
-  const start = placeXY(itin.legs[0].from, proj, stopById);
+  const startPlace = itin.legs[0].from;
   const endPlace = itin.legs[itin.legs.length - 1].to;
+  const start = placeXY(startPlace, proj, stopById);
   const end = placeXY(endPlace, proj, stopById);
   if (start) {
     g.append(node('circle', { cx: start[0].toFixed(1), cy: start[1].toFixed(1), r: (7 * px).toFixed(2), class: 'sk-start', 'stroke-width': (3 * px).toFixed(2) }));
-    addLabel(itin.legs[0].from, start, 'sk-label-end');
+    addLabel(startPlace, start, 'sk-label-end', true);
   }
   if (end) {
     const r = 8 * px;
     const [x, y] = end;
     g.append(node('polygon', { points: pointsAttr([[x, y - r], [x + r, y], [x, y + r], [x - r, y]]), class: 'sk-end', 'stroke-width': (2 * px).toFixed(2) }));
-    addLabel(endPlace, end, 'sk-label-end');
+    addLabel(endPlace, end, 'sk-label-end', true);
   }
+  for (const [place, xy] of marks) addLabel(place, xy, 'sk-label-change', false);
   g.append(labels);
   return g;
 }

@@ -39,6 +39,15 @@ pub fn csv_message(e: &csv::Error) -> String {
     }
 }
 
+/// Columns whose GTFS type is a number (Float, Integer, Non-negative integer or Enum).
+const NUMERIC_COLUMNS: &[&str] = &[
+    "stop_lat", "stop_lon", "location_type", "wheelchair_boarding", "route_type", "route_sort_order", "direction_id",
+    "wheelchair_accessible", "bikes_allowed", "pathway_mode", "is_bidirectional", "length", "traversal_time",
+    "stair_count", "max_slope", "min_width", "level_index", "shape_pt_lat", "shape_pt_lon", "shape_pt_sequence",
+    "shape_dist_traveled", "transfer_type", "min_transfer_time", "headway_secs", "exact_times", "exception_type",
+    "monday", "tuesday", "wednesday", "thursday", "friday", "saturday", "sunday",
+];
+
 /// Reads every row of `file` as `T`, calling `row(line, record)` for each good one. Returns
 /// `Ok(None)` when the file is absent.
 pub fn read_table<T: DeserializeOwned>(
@@ -81,14 +90,23 @@ pub fn read_table<T: DeserializeOwned>(
             }
             Err(e) => {
                 let mut issue = FeedIssue::new(feed, format!("{}; row skipped", csv_message(&e))).file(file).line(line);
-                if let csv::ErrorKind::Deserialize { err, .. } = e.kind() {
-                    if let Some(i) = err.field() {
-                        if let Some(name) = headers.get(i as usize) {
-                            issue = issue.field(name);
+                let field = match e.kind() {
+                    csv::ErrorKind::Deserialize { err, .. } => err.field().map(|i| i as usize),
+                    _ => None,
+                };
+                // Some field parsers report no field index; find the number that does not parse.
+                let field = field.or_else(|| {
+                    headers.iter().position(|h| NUMERIC_COLUMNS.contains(&h.as_str()) && rec.get(headers.iter().position(|x| x == h).unwrap_or(0)).is_some_and(|v| !v.is_empty() && v.parse::<f64>().is_err()))
+                });
+                if let Some(i) = field {
+                    if let Some(name) = headers.get(i) {
+                        issue = issue.field(name);
+                        if NUMERIC_COLUMNS.contains(&name.as_str()) {
+                            issue.message = format!("expected a number (GTFS Schedule reference field type); {}", issue.message);
                         }
-                        if let Some(v) = rec.get(i as usize) {
-                            issue = issue.value(v);
-                        }
+                    }
+                    if let Some(v) = rec.get(i) {
+                        issue = issue.value(v);
                     }
                 }
                 warnings.push(issue);

@@ -112,31 +112,45 @@ test('a row with a bad value: error or warning names file, line and field', asyn
   await stillAnswers(page);
 });
 
-test('cancelling a load keeps the feeds loaded before', async () => {
-  const { page } = rec;
-  // Remove the rail feed, then start loading it again and cancel at once.
-  await page.click('#feed-list button[data-remove="oskerveld-rail"]');
-  await h.waitFeeds(page, 1);
-  await page.click('#load-demo');
-  await page.waitForSelector('#loads-box:not([hidden])');
-  await page.click('#cancel-load');
-  await page.waitForSelector('html[data-loading="no"]');
-  const names = await page.$$eval('#feed-list .feed-name', (els) => els.map((e) => e.textContent));
-  assert.ok(names.includes('oskerveld-city'), `city feed kept after cancel: ${names}`);
-  assert.match(await page.textContent('#status'), /cancelled|Loaded/);
-  // The restarted engine still finds stops in the kept feed.
-  await page.fill('#from', '');
-  await page.focus('#from');
-  await page.keyboard.type('Glassw');
-  await page.waitForSelector('#from-list:not([hidden]) [role="option"]');
-  assert.match(await page.textContent('#from-list'), /Glassworks/);
-  await page.keyboard.press('Escape');
-  // Load the rail feed again for a last full check.
-  if (!names.includes('oskerveld-rail')) {
-    await page.click('#load-demo');
-    await h.waitFeeds(page, 2);
+/** A valid but large feed (GTFS Schedule reference files), so that loading it takes a while. */
+function bigFeed(trips = 24000, stopsPerTrip = 16) {
+  const stops = ['stop_id,stop_name,stop_lat,stop_lon'];
+  for (let i = 0; i < 400; i++) stops.push(`B${i},Bulk stop ${i},${(52.3 + (i % 20) * 0.002).toFixed(4)},${(13.3 + Math.floor(i / 20) * 0.003).toFixed(4)}`);
+  const tripRows = ['route_id,service_id,trip_id'];
+  const st = ['trip_id,arrival_time,departure_time,stop_id,stop_sequence'];
+  const hms = (m) => `${String(Math.floor(m / 60)).padStart(2, '0')}:${String(m % 60).padStart(2, '0')}:00`;
+  for (let t = 0; t < trips; t++) {
+    tripRows.push(`BR,S,BT${t}`);
+    const start = 300 + (t % 1000);
+    for (let k = 0; k < stopsPerTrip; k++) {
+      const time = hms(start + 2 * k);
+      st.push(`BT${t},${time},${time},B${(t * 7 + k * 13) % 400},${k + 1}`);
+    }
   }
-  await h.chooseStop(page, '#from', CASE_A.from);
+  return h.makeZip({
+    'agency.txt': 'agency_id,agency_name,agency_url,agency_timezone\nBA,Bulk Lines,https://bulk.example/,Etc/GMT-1\n',
+    'stops.txt': `${stops.join('\n')}\n`,
+    'routes.txt': 'route_id,agency_id,route_short_name,route_type\nBR,BA,B,3\n',
+    'trips.txt': `${tripRows.join('\n')}\n`,
+    'stop_times.txt': `${st.join('\n')}\n`,
+    'calendar.txt': 'service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date\nS,1,1,1,1,1,1,1,20260101,20271231\n',
+  });
+}
+
+test('cancelling a load restarts the engine and keeps the feeds loaded before', async () => {
+  const { page } = rec;
+  await h.pickFiles(page, [['bulk-feed.zip', bigFeed()]]);
+  // Wait until the engine is inside the load (a stage from its progress callback), then cancel.
+  await page.waitForFunction(() => /unzipping|parsing|building/i.test(document.querySelector('#loads .load-stage')?.textContent || ''), null, { timeout: 20000 });
+  const stage = await page.textContent('#loads .load-stage');
+  await h.shot(page, 'desktop-loading');
+  await page.click('#cancel-load');
+  await page.waitForSelector('html[data-loading="no"]', { timeout: 60000 });
+  await page.waitForFunction(() => /cancelled/.test(document.getElementById('status').textContent));
+  const names = await page.$$eval('#feed-list .feed-name', (els) => els.map((e) => e.textContent).sort());
+  assert.deepEqual(names, ['oskerveld-city', 'oskerveld-rail'], `after cancelling at stage "${stage}"`);
+  assert.match(await page.textContent('#status'), /Still loaded: oskerveld-city, oskerveld-rail/);
+  // The replacement engine has the earlier feeds again and answers as before.
   await stillAnswers(page);
   assert.deepEqual(rec.dialogs, []);
 });

@@ -190,9 +190,11 @@ export async function addressQuery(page) {
   return Object.fromEntries(new URLSearchParams(hash));
 }
 
+/** Saves what the viewport shows; at phone width the whole single-column page. */
 export async function shot(page, name) {
   fs.mkdirSync(ARTIFACTS, { recursive: true });
-  await page.screenshot({ path: path.join(ARTIFACTS, `${name}.png`), fullPage: true });
+  const { width } = page.viewportSize();
+  await page.screenshot({ path: path.join(ARTIFACTS, `${name}.png`), fullPage: width < 900 });
 }
 
 /** Runs the native CLI and parses its JSON output. */

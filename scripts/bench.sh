@@ -1,0 +1,52 @@
+#!/usr/bin/env bash
+# Benchmarks (issue 4): the native search on generated metro and region feeds, side by side with
+# petgraph's dijkstra and a plain Connection Scan (cargo bench --bench queries), then the WASM build
+# in headless Chromium on the metro feed (tests/browser/bench/bench.mjs). Prints both Markdown
+# tables and the machine they ran on. Takes several minutes; the feeds are generated into
+# bench-out/ on first use.
+#
+#   TIMEWEAVE_SKIP_BUILD=1   skip scripts/build.sh (native binary + WASM already built)
+#   TIMEWEAVE_BENCH_*        see benches/queries.rs and tests/browser/bench/bench.mjs
+#   CARGO_JOBS               parallel jobs for cargo (default 1: a 2-core machine others build on)
+set -euo pipefail
+cd "$(dirname "$0")/.."
+
+machine() {
+  echo "### Machine"
+  echo
+  echo "| what | value |"
+  echo "|---|---|"
+  echo "| CPU | $(grep -m1 '^model name' /proc/cpuinfo | cut -d: -f2- | sed 's/^ *//') |"
+  echo "| cores (nproc) | $(nproc) |"
+  echo "| memory | $(awk '/^MemTotal/ { printf "%.1f GiB", $2 / 1048576 }' /proc/meminfo) |"
+  echo "| kernel | $(uname -r) |"
+  echo "| rustc | $(rustc --version) |"
+  echo "| node | $(node --version) |"
+  echo "| load average at start / end | $LOAD_START / $(cut -d' ' -f1-3 /proc/loadavg) |"
+  echo "| date | $(date -u '+%Y-%m-%d %H:%M UTC') |"
+}
+LOAD_START=$(cut -d' ' -f1-3 /proc/loadavg)
+
+if [ "${TIMEWEAVE_SKIP_BUILD:-}" != 1 ]; then
+  scripts/build.sh
+fi
+mkdir -p bench-out
+
+# The release profile aborts on panic, which benches cannot: without this override cargo builds the
+# library twice into the same file names (abort for the binary, unwind for the bench) and the
+# binary fails to compile against the wrong copy. Cargo warns that the setting "is ignored for
+# bench profile"; it still makes both copies one.
+cargo bench --config 'profile.bench.panic="unwind"' -j "${CARGO_JOBS:-1}" --bench queries 2>&1 | tee bench-out/native.log
+
+node tests/browser/bench/bench.mjs 2>&1 | tee bench-out/browser.log
+
+{
+  echo
+  echo "## timeweave benchmarks"
+  echo
+  machine
+  echo
+  cat bench-out/native.md
+  echo
+  cat bench-out/browser.md
+} | tee bench-out/report.md
