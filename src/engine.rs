@@ -32,6 +32,8 @@ pub struct PlanQuery {
     pub max_duration_s: Option<u32>,
     /// Number of options (next departures); default 3.
     pub options: Option<usize>,
+    /// Also list the Pareto set over arrival time and number of rides.
+    pub pareto: bool,
 }
 
 #[derive(Debug, Clone, Serialize, PartialEq)]
@@ -47,6 +49,9 @@ pub struct PlanResult {
     pub itineraries: Vec<Itinerary>,
     pub no_journey: Option<NoJourney>,
     pub step_free_extra_s: Option<i64>,
+    /// With `pareto`: for each number of rides, the earliest arrival, when it is earlier than
+    /// with fewer rides (fewest rides first).
+    pub pareto: Vec<Itinerary>,
     pub warnings: Vec<String>,
 }
 
@@ -315,10 +320,17 @@ impl Engine {
         let ends = Endpoints { origins: self.endpoints_of(from), targets: self.endpoints_of(to) };
         let tz = self.tt.feeds[0].timezone;
         let depart_s = clock_to_seconds(tz, date, h, m).ok_or_else(|| QueryError::BadTime(q.time.clone()))?.max(0) as u32;
-        let mut result = PlanResult { query: q.clone(), itineraries: vec![], no_journey: None, step_free_extra_s: None, warnings: vec![] };
+        let mut result = PlanResult { query: q.clone(), itineraries: vec![], no_journey: None, step_free_extra_s: None, pareto: vec![], warnings: vec![] };
         self.network(date);
         let journeys = self.run_options(&ends, depart_s, &p, k);
         result.itineraries = journeys.iter().map(|j| self.build(j, &ends, &p, depart_s)).collect();
+        if q.pareto {
+            let net = self.net.as_ref().expect("network built");
+            // The layered search holds one label set per ride count; fewer layers on big networks.
+            let max_rides = if net.events() > 1_000_000 { 3 } else { 5 };
+            let set = search::pareto(&self.tt, net, &mut self.state, &ends, depart_s, &p, max_rides);
+            result.pareto = set.iter().map(|j| self.build(j, &ends, &p, depart_s)).collect();
+        }
         if q.step_free != StepFree::Off {
             let std = Params { step_free: StepFree::Off, walk_speed_mps: q.walk_speed_mps.unwrap_or(Params::new(StepFree::Off).walk_speed_mps), ..p.clone() };
             let standard = self.run_options(&ends, depart_s, &std, 1);

@@ -8,7 +8,7 @@
 use serde::Serialize;
 
 use crate::network::Network;
-use crate::search::{access_walk_s, decode, Endpoints, Journey, Node, Params};
+use crate::search::{access_walk_s, decode, is_boarding, Endpoints, Journey, Node, Params};
 use crate::timetable::calendar::seconds_to_clock;
 use crate::timetable::walking::pathway_access;
 use crate::timetable::{Access, Footpath, StopIdx, StopKind, Timetable, WalkConfig};
@@ -279,14 +279,11 @@ impl Builder<'_> {
         // Ride segments: (board event, last ride event).
         let mut rides: Vec<(u32, u32)> = Vec::new();
         for w in j.nodes.windows(2) {
-            match (decode(net, w[0]).1, decode(net, w[1]).1) {
-                (Node::Wait(_), Node::Ride(e)) => rides.push((e, e)),
-                (Node::Ride(_), Node::Ride(e)) => {
-                    if let Some(r) = rides.last_mut() {
-                        r.1 = e;
-                    }
-                }
-                _ => {}
+            let Node::Ride(e) = decode(net, w[1]).1 else { continue };
+            if is_boarding(net, w[0], w[1]) {
+                rides.push((e, e));
+            } else if let Some(r) = rides.last_mut() {
+                r.1 = e;
             }
         }
         let mut t = self.query_s;

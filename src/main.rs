@@ -51,6 +51,9 @@ enum Command {
         /// Penalty per boarding after the first, minutes.
         #[arg(long)]
         transfer_penalty: Option<u32>,
+        /// Also list the Pareto set over arrival time and number of rides.
+        #[arg(long)]
+        pareto: bool,
         /// Print the result as JSON (the shape documented in DEVELOPERS.md).
         #[arg(long)]
         json: bool,
@@ -155,7 +158,7 @@ fn json<T: serde::Serialize>(v: &T) -> Result<(), String> {
 
 fn run(cli: Cli) -> Result<(), String> {
     match cli.command {
-        Command::Plan { feeds, from, to, date, at, step_free, lenient, options, max_walk, walk_speed, transfer_penalty, json: as_json } => {
+        Command::Plan { feeds, from, to, date, at, step_free, lenient, options, max_walk, walk_speed, transfer_penalty, pareto, json: as_json } => {
             let mut engine = load(&feeds, as_json)?;
             let q = PlanQuery {
                 from,
@@ -171,6 +174,7 @@ fn run(cli: Cli) -> Result<(), String> {
                 walk_speed_mps: walk_speed,
                 transfer_penalty_s: transfer_penalty.map(|m| m * 60),
                 options: Some(options),
+                pareto,
                 ..PlanQuery::default()
             };
             let result = engine.plan(&q).map_err(|e| format!("error: {e}"))?;
@@ -280,6 +284,12 @@ fn present_plan(r: &PlanResult) -> String {
             if r.query.step_free != StepFree::Off {
                 let _ = writeln!(out, "      step-free: {:?} — {}", leg.step_free.status, leg.step_free.reasons.join("; "));
             }
+        }
+    }
+    if !r.pareto.is_empty() {
+        let _ = writeln!(out, "\nFewer rides or earlier arrival (Pareto set):");
+        for it in &r.pareto {
+            let _ = writeln!(out, "  {} ride{}: {} → {} ({} min)", it.rides, if it.rides == 1 { "" } else { "s" }, it.depart, it.arrive, it.duration_s / 60);
         }
     }
     if let Some(x) = r.step_free_extra_s {

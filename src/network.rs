@@ -34,6 +34,9 @@ pub const STEP_FREE_YES: u8 = 16;
 /// Neither trip nor stop marked not accessible (2), but at least one unknown (0/empty).
 pub const STEP_FREE_UNKNOWN: u8 = 32;
 
+/// Alighting here falls under a trip- or route-specific transfer rule of `transfers.txt`.
+pub const HAS_RULES: u8 = 64;
+
 /// A trip running on the timeline, `offset_s` after its own service day's origin.
 #[derive(Debug, Clone, Copy)]
 pub struct Instance {
@@ -117,6 +120,9 @@ impl Network {
                         f |= LAST_OF_TRIP;
                     }
                     f |= step_free_bits(trip.wheelchair, stops_access(e));
+                    if !tt.specific_rules.is_empty() && tt.rules_at(tt.ev_stop[e]).iter().any(|r| r.from.matches(tt, TripIdx(ti as u32)).is_some()) {
+                        f |= HAS_RULES;
+                    }
                     net.flags.push(f);
                 }
             }

@@ -12,7 +12,7 @@
 use serde::Serialize;
 
 use crate::radix_heap::RadixHeap;
-use crate::network::{Network, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
+use crate::network::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
 use crate::timetable::{Footpath, StopIdx, Timetable, WalkProfile, NO_DROP_OFF, NO_PICKUP};
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize, Default)]
@@ -329,6 +329,34 @@ impl Ctx<'_> {
     }
 }
 
+/// Boardings at the stop of event `e2` for a rider alighting there from a trip that a
+/// trip- or route-specific transfer rule names: each later departure is checked against the
+/// rules (`Timetable::change_s`) and boarded directly, instead of through the shared waiting chain
+/// (which cannot remember which trip the rider came from).
+fn rule_boardings(tt: &Timetable, net: &Network, p: &Params, cx: &Ctx, e2: usize, at: u32) -> Vec<(u32, u32)> {
+    let (v, ta) = (net.stop[e2], net.arr[e2]);
+    let from_trip = net.instance_of(e2 as u32).trip;
+    let mut out = Vec::new();
+    let Some(start) = net.first_departure(v, ta) else { return out };
+    for pos in start..net.stop_first[v.idx() + 1] {
+        let dep = net.by_stop_dep[pos as usize];
+        if dep > cx.horizon {
+            break;
+        }
+        let f = net.by_stop[pos as usize];
+        if f as usize == e2 || net.flags[f as usize] & (NO_PICKUP | LAST_OF_TRIP) != 0 || !cx.event_ok(f as usize) {
+            continue;
+        }
+        let to_trip = net.instance_of(f).trip;
+        if let Some(m) = tt.change_s(v, from_trip, to_trip, p.transfer_s()) {
+            if dep >= ta + m {
+                out.push((f, at + (dep - ta) + p.transfer_penalty_s));
+            }
+        }
+    }
+    out
+}
+
 fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params, layers: u32, goal: Goal) {
     st.reset(net, tt.stops.len(), layers);
     let walk = tt.walk(p.step_free.walk_profile());
@@ -404,7 +432,14 @@ fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, de
             if st.is_target[v.idx()] == gen {
                 st.relax(base + per - 1, at, node);
             }
-            if let Some(mt) = tt.stop_transfer_s(v, p.transfer_s()) {
+            if net.flags[e2] & HAS_RULES != 0 {
+                let next = if layers == 1 { 0 } else { layer + 1 };
+                if next < layers {
+                    for (f, cost) in rule_boardings(tt, net, p, &cx, e2, at) {
+                        st.relax(next * per + e_count + f, cost, node);
+                    }
+                }
+            } else if let Some(mt) = tt.stop_transfer_s(v, p.transfer_s()) {
                 cx.enter(st, base, v, ta + mt, at + mt, node);
             }
             for f in walk.from(v) {
@@ -459,8 +494,18 @@ fn sink_arrival(net: &Network, tt: &Timetable, st: &SearchState, p: &Params, end
     ends.targets.iter().filter_map(|&t| walk.between(v, t)).filter(|f| f.length_m as f64 <= p.max_walk_m).map(|f| (ta + f.duration_s(p.walk_speed_mps), f.duration_s(p.walk_speed_mps))).min()
 }
 
+/// True when the step `a → b` boards a vehicle (from a waiting node, or directly under a
+/// trip-specific transfer rule).
+pub fn is_boarding(net: &Network, a: u32, b: u32) -> bool {
+    match (decode(net, a).1, decode(net, b).1) {
+        (Node::Wait(_), Node::Ride(_)) => true,
+        (Node::Ride(x), Node::Ride(y)) => y != x + 1,
+        _ => false,
+    }
+}
+
 fn rides_on(net: &Network, nodes: &[u32]) -> u32 {
-    nodes.windows(2).filter(|w| matches!((decode(net, w[0]).1, decode(net, w[1]).1), (Node::Wait(_), Node::Ride(_)))).count() as u32
+    nodes.windows(2).filter(|w| is_boarding(net, w[0], w[1])).count() as u32
 }
 
 fn direct_walk(tt: &Timetable, ends: &Endpoints, depart_s: u32, p: &Params) -> Option<Journey> {
@@ -524,7 +569,9 @@ pub fn access_walk_s(tt: &Timetable, ends: &Endpoints, s: StopIdx, p: &Params) -
 }
 
 /// Up to `k` options: the best journey leaving at or after `depart_s`, then the best leaving after
-/// that one's departure, and so on ("next K departures"). A walk-only journey is listed once.
+/// that one's departure, and so on ("next K departures"). An option that a later one beats on
+/// arrival and rides is dropped, so departures and arrivals both increase. A walk-only journey
+/// is listed once.
 pub fn options(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params, k: usize) -> Vec<Journey> {
     let mut out: Vec<Journey> = Vec::new();
     let mut t = depart_s;
@@ -538,9 +585,14 @@ pub fn options(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpo
             continue;
         }
         t = departure_of(tt, net, ends, &j, p, t) + 1;
-        if !out.iter().any(|o| o.nodes == j.nodes) {
-            out.push(j);
+        if out.iter().any(|o| o.nodes == j.nodes) {
+            continue;
         }
+        // A later departure that arrives no later makes the earlier option pointless.
+        while out.last().is_some_and(|o| o.direct_walk.is_none() && o.arrival_s >= j.arrival_s && o.rides >= j.rides) {
+            out.pop();
+        }
+        out.push(j);
     }
     out
 }
@@ -636,7 +688,12 @@ pub fn edges_of(tt: &Timetable, net: &Network, ends: &Endpoints, p: &Params, nod
                 if ends.targets.contains(&v) {
                     out.push((per - 1, ta - t));
                 }
-                if let Some(mt) = tt.stop_transfer_s(v, p.transfer_s()) {
+                if net.flags[e2] & HAS_RULES != 0 {
+                    let cx = Ctx { net, p, mask, horizon: u32::MAX, goal: Goal::All, e: e_count };
+                    for (f, cost) in rule_boardings(tt, net, p, &cx, e2, ta - t) {
+                        out.push((e_count + f, cost));
+                    }
+                } else if let Some(mt) = tt.stop_transfer_s(v, p.transfer_s()) {
                     enter(v, ta + mt, 0, out, t);
                 }
                 for f in walk.from(v) {

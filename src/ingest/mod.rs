@@ -385,6 +385,7 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
     };
     let mut stop_rules = Vec::new();
     let mut link_rules = Vec::new();
+    let mut specific_rules = Vec::new();
     let mut specific = 0u64;
     read_table(files, feed, "transfers.txt", &["transfer_type"], &mut w, |line, t: TransferRow, w| {
         let issue = |m: &str, field: &str, v: &str| FeedIssue::new(feed, m).file("transfers.txt").line(line).field(field).value(v);
@@ -399,8 +400,31 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
             T::Impossible => TransferRule::Forbidden,
             T::StayOnBoard | T::MustAlight => return, // in-seat rules: staying seated is already free
         };
-        if [&t.from_trip_id, &t.to_trip_id, &t.from_route_id, &t.to_route_id].iter().any(|x| x.as_ref().is_some_and(|s| !s.is_empty())) {
-            specific += 1;
+        let given = |x: &Option<String>| x.as_deref().filter(|s| !s.is_empty()).map(str::to_string);
+        let (ft, tt_, fr, tr) = (given(&t.from_trip_id), given(&t.to_trip_id), given(&t.from_route_id), given(&t.to_route_id));
+        if ft.is_some() || tt_.is_some() || fr.is_some() || tr.is_some() {
+            let end = |trip: Option<String>, route: Option<String>, tf: &str, rf: &str| -> Result<RuleEnd, FeedIssue> {
+                if let Some(id) = trip {
+                    return if trip_index.contains_key(&id) { Ok(RuleEnd::Trip(id)) } else { Err(issue("names no trip in trips.txt; row skipped", tf, &id)) };
+                }
+                match route {
+                    Some(id) => route_index.get(&id).map(|&r| RuleEnd::Route(r)).ok_or_else(|| issue("names no route in routes.txt; row skipped", rf, &id)),
+                    None => Ok(RuleEnd::Any),
+                }
+            };
+            let (from, to) = match (end(ft, fr, "from_trip_id", "from_route_id"), end(tt_, tr, "to_trip_id", "to_route_id")) {
+                (Ok(a), Ok(b)) => (a, b),
+                (Err(e), _) | (_, Err(e)) => return w.push(e),
+            };
+            let same_stop = t.from_stop_id.is_some() && t.from_stop_id == t.to_stop_id;
+            match (from == RuleEnd::Any, t.from_stop_id.as_deref().and_then(|s| stop_index.get(s)), same_stop) {
+                (false, Some(&at), true) => {
+                    for x in expand(at) {
+                        specific_rules.push(SpecificRule { stop: x, from: from.clone(), to: to.clone(), rule });
+                    }
+                }
+                _ => specific += 1,
+            }
             return;
         }
         let (Some(from), Some(to)) = (t.from_stop_id.as_deref().filter(|s| !s.is_empty()), t.to_stop_id.as_deref().filter(|s| !s.is_empty())) else {
@@ -419,12 +443,14 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
         }
     })?;
     if specific > 0 {
-        w.push(FeedIssue::new(feed, format!("{specific} trip- or route-specific transfer rows are not applied (only stop-to-stop rules are); those transfers follow the stop's rules")).file("transfers.txt"));
+        w.push(FeedIssue::new(feed, format!("{specific} trip- or route-specific transfer rows are not applied: only rules with a from_trip_id or from_route_id and the same from_stop_id and to_stop_id are; those changes follow the stops' rules")).file("transfers.txt"));
     }
     stop_rules.sort_by_key(|r| r.0);
     stop_rules.dedup_by_key(|r| r.0);
     tt.stop_rules = stop_rules;
     tt.link_rules = link_rules;
+    specific_rules.sort_by_key(|r| r.stop);
+    tt.specific_rules = specific_rules;
 
     // pathways.txt
     stage(progress, "pathways.txt");

@@ -251,6 +251,9 @@ pub struct Timetable {
     pub stop_rules: Vec<(StopIdx, TransferRule)>,
     /// Stop-to-stop rules between different stops (override or forbid the walking link).
     pub link_rules: Vec<(StopIdx, StopIdx, TransferRule)>,
+    /// Trip- or route-specific rules for changing at one stop, sorted by stop. Only rules with a
+    /// `from_trip_id` or `from_route_id` are kept (see DEVELOPERS.md).
+    pub specific_rules: Vec<SpecificRule>,
     pub pathways: Vec<Pathway>,
     /// Simplified shapes (lat, lon) for drawing.
     pub shapes: Vec<Vec<[f32; 2]>>,
@@ -258,6 +261,35 @@ pub struct Timetable {
     pub walk_standard: FootpathSet,
     pub walk_step_free: FootpathSet,
     pub walk_step_free_strict: FootpathSet,
+}
+
+/// One side of a trip- or route-specific transfer rule.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum RuleEnd {
+    Any,
+    Route(RouteIdx),
+    /// A trip id (every trip expanded from it by frequencies.txt shares it).
+    Trip(String),
+}
+
+impl RuleEnd {
+    /// How specific a match is (trip 2, route 1, any 0), or `None` when it does not match.
+    pub fn matches(&self, tt: &Timetable, t: TripIdx) -> Option<u8> {
+        let trip = tt.trip(t);
+        match self {
+            RuleEnd::Any => Some(0),
+            RuleEnd::Route(r) => (trip.route == *r).then_some(1),
+            RuleEnd::Trip(id) => (trip.id == *id).then_some(2),
+        }
+    }
+}
+
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct SpecificRule {
+    pub stop: StopIdx,
+    pub from: RuleEnd,
+    pub to: RuleEnd,
+    pub rule: TransferRule,
 }
 
 #[derive(Debug, Clone, Serialize)]
@@ -356,6 +388,30 @@ impl Timetable {
             Err(_) => Some(default_s),
         }
     }
+    /// The trip- or route-specific rules at a stop.
+    pub fn rules_at(&self, s: StopIdx) -> &[SpecificRule] {
+        let a = self.specific_rules.partition_point(|r| r.stop < s);
+        let b = self.specific_rules.partition_point(|r| r.stop <= s);
+        &self.specific_rules[a..b]
+    }
+
+    /// The rule for changing from trip `a` to trip `b` at stop `s`: the most specific matching
+    /// specific rule (trip over route over any, the "from" side first), else the stop's own.
+    /// `None` when the change is forbidden, else the minimum time.
+    pub fn change_s(&self, s: StopIdx, a: TripIdx, b: TripIdx, default_s: u32) -> Option<u32> {
+        let best = self
+            .rules_at(s)
+            .iter()
+            .filter_map(|r| Some(((r.from.matches(self, a)?, r.to.matches(self, b)?), r.rule)))
+            .max_by_key(|x| x.0);
+        match best {
+            Some((_, TransferRule::Forbidden)) => None,
+            Some((_, TransferRule::Timed)) => Some(0),
+            Some((_, TransferRule::MinTime(m))) => Some(m),
+            None => self.stop_transfer_s(s, default_s),
+        }
+    }
+
     /// Bytes held by the per-stop-event arrays.
     pub fn event_bytes(&self) -> usize {
         self.ev_stop.capacity() * 4 + self.ev_arr.capacity() * 4 + self.ev_dep.capacity() * 4 + self.ev_flags.capacity()
@@ -409,6 +465,14 @@ impl Timetable {
         self.stop_rules.extend(other.stop_rules.iter().map(|&(a, r)| (s(a), r)));
         self.stop_rules.sort_by_key(|r| r.0);
         self.link_rules.extend(other.link_rules.iter().map(|&(a, b, r)| (s(a), s(b), r)));
+        let shift = |e: &RuleEnd| match e {
+            RuleEnd::Route(r) => RuleEnd::Route(RouteIdx(r.0 + ro)),
+            other => other.clone(),
+        };
+        for r in other.specific_rules.drain(..) {
+            self.specific_rules.push(SpecificRule { stop: s(r.stop), from: shift(&r.from), to: shift(&r.to), rule: r.rule });
+        }
+        self.specific_rules.sort_by_key(|r| r.stop);
         for mut p in other.pathways.drain(..) {
             p.from = s(p.from);
             p.to = s(p.to);
@@ -473,6 +537,11 @@ impl Timetable {
         let mine = |x: StopIdx| x.0 >= s0 && x.0 < s1;
         out.stop_rules = self.stop_rules.iter().filter(|r| mine(r.0)).map(|&(a, r)| (ls(a), r)).collect();
         out.link_rules = self.link_rules.iter().filter(|r| mine(r.0)).map(|&(a, b, r)| (ls(a), ls(b), r)).collect();
+        let unshift = |e: &RuleEnd| match e {
+            RuleEnd::Route(r) => RuleEnd::Route(RouteIdx(r.0 - r0)),
+            other => other.clone(),
+        };
+        out.specific_rules = self.specific_rules.iter().filter(|r| mine(r.stop)).map(|r| SpecificRule { stop: ls(r.stop), from: unshift(&r.from), to: unshift(&r.to), rule: r.rule }).collect();
         out.pathways = self.pathways.iter().filter(|p| mine(p.from)).cloned().map(|mut p| {
             p.from = ls(p.from);
             p.to = ls(p.to);
