@@ -675,6 +675,7 @@ pub fn edges_of(tt: &Timetable, net: &Network, ends: &Endpoints, p: &Params, nod
                 out.push((e_count + ev as u32, p.transfer_penalty_s));
             }
         }
+        Node::Ride(e) if net.flags[e as usize] & LAST_OF_TRIP != 0 => {}
         Node::Ride(e) => {
             let e = e as usize;
             let t = net.dep[e];

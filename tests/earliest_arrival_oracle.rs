@@ -8,7 +8,9 @@
 //!
 //! Feeds: 3–8 stops placed 0.03° of latitude (≈ 3.3 km) apart, so no walking links are generated
 //! (the link radius is 400 m); 2–12 trips with random stop sequences, increasing times and random
-//! pickup/drop-off restrictions; one service date.
+//! pickup/drop-off restrictions; one service date. Times are whole minutes within about two hours,
+//! so arrivals and departures often coincide or lie exactly one change time apart, the cases where
+//! a wrong change-time rule would show.
 
 mod support;
 
@@ -71,14 +73,14 @@ struct Case {
 }
 
 fn trip(n: usize) -> impl Strategy<Value = TripSpec> {
-    let event = (1..n, 1u32..=20, 0u32..=3, prop::bool::weighted(0.8), prop::bool::weighted(0.8))
+    let event = (1..n, 1u32..=6, 0u32..=2, prop::bool::weighted(0.8), prop::bool::weighted(0.8))
         .prop_map(|(step, travel_min, dwell_min, pickup, drop_off)| Event { step, travel_min, dwell_min, pickup, drop_off });
-    (0..n, 360u32..=600, prop::collection::vec(event, 2..=7)).prop_map(|(first_stop, start_min, events)| TripSpec { first_stop, start_min, events })
+    (0..n, 360u32..=420, prop::collection::vec(event, 2..=8)).prop_map(|(first_stop, start_min, events)| TripSpec { first_stop, start_min, events })
 }
 
 fn case() -> impl Strategy<Value = Case> {
     (3usize..=8)
-        .prop_flat_map(|n| (Just(n), prop::collection::vec(trip(n), 2..=12), any::<Index>(), any::<Index>(), 1..n, 330u32..=660, prop::bool::ANY))
+        .prop_flat_map(|n| (Just(n), prop::collection::vec(trip(n), 2..=12), any::<Index>(), any::<Index>(), 1..n, 350u32..=430, prop::bool::ANY))
         .prop_map(|(n, trips, which_trip, which_event, target_step, depart_min, penalty)| {
             // Start where some trip stops, so that many cases have a journey.
             let t = which_trip.get(&trips);
@@ -149,8 +151,11 @@ fn connection_scan(c: &Case, depart_s: u32, min_transfer_s: u32, horizon_s: u32)
     best
 }
 
+/// Cases per property (at least 256 asked for; a case takes about a millisecond in release mode).
+const CASES: u32 = 1024;
+
 fn config() -> ProptestConfig {
-    let mut cfg = ProptestConfig::with_cases(256);
+    let mut cfg = ProptestConfig::with_cases(CASES);
     cfg.failure_persistence = None;
     cfg
 }
@@ -183,7 +188,8 @@ fn earliest_arrival_equals_connection_scan() {
             Ok(())
         })
         .unwrap();
-    assert!(found.get() >= 64, "only {} of 256 cases had a journey; the oracle comparison would be weak", found.get());
+    eprintln!("{} of {CASES} cases had a journey", found.get());
+    assert!(found.get() >= CASES / 4, "only {} of {CASES} cases had a journey; the oracle comparison would be weak", found.get());
 }
 
 #[test]
@@ -212,5 +218,5 @@ fn every_node_of_a_returned_path_has_its_one_to_all_cost() {
             Ok(())
         })
         .unwrap();
-    assert!(checked.get() >= 64, "only {} of 256 cases had a journey", checked.get());
+    assert!(checked.get() >= CASES / 4, "only {} of {CASES} cases had a journey", checked.get());
 }

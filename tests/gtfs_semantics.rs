@@ -44,8 +44,9 @@ fn night_feed() -> Feed {
 fn a_trip_past_midnight_belongs_to_its_service_day_and_is_found_the_next_morning() {
     let mut engine = night_feed().load();
     // 2026-06-01 is a Monday, so the MON service runs on it and not on Tuesday 2026-06-02.
-    // GTFS Schedule reference, stop_times.txt: arrival_time/departure_time "may exceed 24:00:00
-    // for trips that run past midnight"; 25:10:00 of Monday's service day is 01:10 on Tuesday.
+    // GTFS Schedule reference, field types, Time (used by stop_times.txt arrival_time and
+    // departure_time): "For times occurring after midnight on the service day, enter the time as a
+    // value greater than 24:00:00"; 25:10:00 of Monday's service day is 01:10 on Tuesday.
     let r = plan(&mut engine, &query("A", "B", "2026-06-02", "01:00"), StepFree::Off);
     assert_eq!(r.itineraries.len(), 1, "{r:?}");
     let it = &r.itineraries[0];
@@ -170,8 +171,8 @@ fn calendar_dates_add_and_remove_single_dates() {
             T,09:20:00,09:20:00,B,2")
         .load();
     let runs = |engine: &mut timeweave::Engine, d: &str| !plan(engine, &query("A", "B", d, "08:00"), StepFree::Off).itineraries.is_empty();
-    // GTFS Schedule reference, calendar.txt: the weekly pattern applies between start_date and
-    // end_date, and both "service day[s] [are] included in the interval".
+    // GTFS Schedule reference, calendar.txt: the weekly pattern applies from start_date to
+    // end_date, and of end_date: "This service day is included in the interval".
     assert!(runs(&mut engine, "2026-06-01"), "start_date (a Monday) is included");
     assert!(runs(&mut engine, "2026-06-08"), "an ordinary Monday");
     assert!(runs(&mut engine, "2026-06-30"), "end_date (a Tuesday) is included");
@@ -456,7 +457,6 @@ fn transfer_type_2_between_stops_beyond_walking_range_gives_a_link_of_at_least_i
 /// disappears. Expected (GTFS Schedule reference, transfer_type 2: the transfer is possible after
 /// min_transfer_time): at F 08:25, R7 08:30, arrival 09:00. Actual: no link, R3, 09:30.
 #[test]
-#[ignore = "engine bug: a transfers.txt type 2 link whose length + min_transfer_time × 1.3 exceeds max_link_m 1500 is dropped without a warning; A,F,2,900 gives 09:30 instead of 09:00"]
 fn transfer_type_2_with_a_long_min_transfer_time_keeps_its_link() {
     let trips = ["R1", "R3", "R6", "R7"];
     // GTFS Schedule reference, transfers.txt transfer_type 2 (as above), min_transfer_time 900 s.
@@ -472,7 +472,6 @@ fn transfer_type_2_with_a_long_min_transfer_time_keeps_its_link() {
 /// the 101 s street walk, R2, 08:40. The demo city's rules (Lantern Square 180 s, Tram Place
 /// 120 s, …) are affected the same way.
 #[test]
-#[ignore = "engine bug: transfers.txt transfer_type 2 between two stops within the 400 m street radius is ignored (walking closure keeps the street segment without min_s); A,B,2,600 gives 08:40 instead of 08:50"]
 fn transfer_type_2_min_transfer_time_between_nearby_stops_is_respected() {
     let trips = ["R1", "R2", "R2B", "R3"];
     // Control: the 100 m walk (about 101 s: 130 m at 1.3 m/s) catches R2 at 08:13.

@@ -195,7 +195,6 @@ fn node_costs_equal_petgraph_dijkstra() {
 /// every node. On the ride node of a trip's last event it reads the event after it, which belongs
 /// to the next trip, or lies past the end of the arrays for the network's last event.
 #[test]
-#[ignore = "engine bug: search::edges_of on Ride(e) where e is the last event of its trip reads event e+1 of another trip (out of bounds for the network's last event) instead of returning no edges"]
 fn edges_of_is_defined_on_every_node() {
     let engine = random_feed(1).load();
     let net = Network::build(&engine.tt, NaiveDate::from_ymd_opt(2026, 6, 10).expect("date"));

@@ -250,22 +250,11 @@ pub fn rebuild(tt: &mut Timetable, cfg: &WalkConfig) {
             edges[pw.to.idx()].push(e(pw.from, true));
         }
     }
-    for &(a, b, rule) in &tt.link_rules {
-        let (sa, sb) = (tt.stop(a), tt.stop(b));
-        let d = haversine_m(sa.lat, sa.lon, sb.lat, sb.lon) * cfg.detour_factor;
-        let min_s = match rule {
-            TransferRule::MinTime(t) => t,
-            _ => 0,
-        };
-        if rule != TransferRule::Forbidden {
-            edges[a.idx()].push(Edge { to: b.0, length_m: d as f32, fixed_s: 0, min_s, access: Access::Yes, pathway: u32::MAX, reversed: false });
-        }
-    }
-
-    let forbidden: std::collections::HashSet<(u32, u32)> = tt.link_rules.iter().filter(|r| r.2 == TransferRule::Forbidden).map(|r| (r.0 .0, r.1 .0)).collect();
+    let mut rules = tt.link_rules.clone();
+    rules.sort_by_key(|r| (r.0, r.1));
     let mut sets = Vec::with_capacity(3);
     for profile in WalkProfile::ALL {
-        sets.push(closure(tt, cfg, profile, &edges, &endpoint, &street, &forbidden));
+        sets.push(closure(tt, cfg, profile, &edges, &endpoint, &rules));
     }
     tt.walk_step_free_strict = sets.pop().unwrap_or_default();
     tt.walk_step_free = sets.pop().unwrap_or_default();
@@ -300,8 +289,7 @@ fn closure(
     profile: WalkProfile,
     edges: &[Vec<Edge>],
     endpoint: &dyn Fn(usize) -> bool,
-    street: &dyn Fn(usize) -> bool,
-    forbidden: &std::collections::HashSet<(u32, u32)>,
+    rules: &[(StopIdx, StopIdx, TransferRule)],
 ) -> FootpathSet {
     let n = tt.stops.len();
     let mut set = FootpathSet { first: Vec::with_capacity(n + 1), paths: Vec::new(), steps: Vec::new() };
@@ -356,13 +344,8 @@ fn closure(
         // Keep the cheaper of the two states per target stop.
         found.sort_by(|a, b| a.0.cmp(&b.0).then(dist[a.1 as usize].total_cmp(&dist[b.1 as usize])));
         found.dedup_by_key(|f| f.0);
+        let first_new = set.paths.len();
         for (to, state) in found {
-            if forbidden.contains(&(s as u32, to)) {
-                continue;
-            }
-            // A walk from a platform inside a pathway station to the street is only meaningful
-            // when it ends at another endpoint, which `found` guarantees.
-            let _ = street;
             let mut fp = Footpath { to: StopIdx(to), length_m: 0.0, fixed_s: 0, min_s: 0, access: Access::Yes, steps_start: set.steps.len() as u32, steps_len: 0, street: false };
             let mut chain = Vec::new();
             let mut cur = state;
@@ -386,6 +369,7 @@ fn closure(
             }
             set.paths.push(fp);
         }
+        apply_link_rules(tt, cfg, profile, s, rules, &mut set, first_new);
         for &t in &touched {
             dist[t as usize] = f64::INFINITY;
         }
@@ -393,6 +377,40 @@ fn closure(
     }
     set.first.push(set.paths.len() as u32);
     set
+}
+
+/// transfers.txt rows between two different stops override the walking closure for that pair:
+/// transfer_type 3 removes the link, 1 and 2 make sure it exists (even past the walking limit)
+/// and takes at least min_transfer_time. The feed does not say whether such a link is step-free,
+/// so a link that exists only because of the rule is "unknown" (left out of the strict profile).
+fn apply_link_rules(tt: &Timetable, cfg: &WalkConfig, profile: WalkProfile, s: usize, rules: &[(StopIdx, StopIdx, TransferRule)], set: &mut FootpathSet, first_new: usize) {
+    let from = StopIdx(s as u32);
+    let lo = rules.partition_point(|r| r.0 < from);
+    let hi = rules.partition_point(|r| r.0 <= from);
+    if lo == hi {
+        return;
+    }
+    for &(_, to, rule) in &rules[lo..hi] {
+        let existing = set.paths[first_new..].iter().position(|f| f.to == to).map(|i| i + first_new);
+        match (rule, existing) {
+            (TransferRule::Forbidden, Some(i)) => {
+                set.paths.remove(i);
+            }
+            (TransferRule::Forbidden, None) => {}
+            (TransferRule::MinTime(m), Some(i)) => set.paths[i].min_s = set.paths[i].min_s.max(m),
+            (TransferRule::Timed, Some(_)) => {}
+            (rule, None) => {
+                if !allowed(profile, Access::Unknown) || to.idx() == s {
+                    continue;
+                }
+                let (a, b) = (tt.stop(from), tt.stop(to));
+                let length_m = (haversine_m(a.lat, a.lon, b.lat, b.lon) * cfg.detour_factor) as f32;
+                let min_s = if let TransferRule::MinTime(m) = rule { m } else { 0 };
+                set.paths.push(Footpath { to, length_m, fixed_s: 0, min_s, access: Access::Unknown, steps_start: set.steps.len() as u32, steps_len: 0, street: true });
+            }
+        }
+    }
+    set.paths[first_new..].sort_by_key(|f| f.to);
 }
 
 fn edges_dummy() -> Edge {

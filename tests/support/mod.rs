@@ -126,3 +126,5 @@ pub fn hms(s: u32) -> String {
 pub fn demo(folder: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data").join(folder)
 }
+pub mod badfeeds;
+pub mod replay;
