@@ -32,11 +32,7 @@ if [ "${TIMEWEAVE_SKIP_BUILD:-}" != 1 ]; then
 fi
 mkdir -p bench-out
 
-# The release profile aborts on panic, which benches cannot: without this override cargo builds the
-# library twice into the same file names (abort for the binary, unwind for the bench) and the
-# binary fails to compile against the wrong copy. Cargo warns that the setting "is ignored for
-# bench profile"; it still makes both copies one.
-cargo bench --config 'profile.bench.panic="unwind"' -j "${CARGO_JOBS:-1}" --bench queries 2>&1 | tee bench-out/native.log
+cargo bench -j "${CARGO_JOBS:-1}" --bench queries 2>&1 | tee bench-out/native.log
 
 node tests/browser/bench/bench.mjs 2>&1 | tee bench-out/browser.log
 

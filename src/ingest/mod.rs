@@ -156,7 +156,7 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
         }
     }
     if !files.has("calendar.txt") && !files.has("calendar_dates.txt") {
-        return Err(FeedIssue::new(feed, "neither calendar.txt nor calendar_dates.txt is present; one of them is required (GTFS Schedule reference)"));
+        return Err(FeedIssue::new(feed, "neither calendar.txt nor calendar_dates.txt is present; one of them is required (GTFS Schedule reference)").file("calendar.txt"));
     }
 
     // agency.txt: the time zone every stop time is counted in.
@@ -205,12 +205,16 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
         let needs_position = matches!(kind, StopKind::Platform | StopKind::Station | StopKind::Entrance);
         let (lat, lon) = (s.latitude.unwrap_or(f64::NAN), s.longitude.unwrap_or(f64::NAN));
         if needs_position {
-            if !(-90.0..=90.0).contains(&lat) || !(-180.0..=180.0).contains(&lon) {
-                w.push(issue(format!("stop_lat/stop_lon must be a WGS84 position (latitude −90…90, longitude −180…180), got {lat}, {lon}; stop skipped")).field("stop_lat").value(&s.id));
+            if !(-90.0..=90.0).contains(&lat) {
+                w.push(issue(format!("stop {}: stop_lat must be a WGS84 latitude −90…90 (required for location_type 0–2); stop skipped", s.id)).field("stop_lat").value(&lat.to_string()));
+                return;
+            }
+            if !(-180.0..=180.0).contains(&lon) {
+                w.push(issue(format!("stop {}: stop_lon must be a WGS84 longitude −180…180 (required for location_type 0–2); stop skipped", s.id)).field("stop_lon").value(&lon.to_string()));
                 return;
             }
             if lat == 0.0 && lon == 0.0 {
-                w.push(issue("position 0,0 is a placeholder, not a real stop position; stop skipped".into()).field("stop_lat").value(&s.id));
+                w.push(issue(format!("stop {}: position 0,0 is a placeholder, not a real stop position; stop skipped", s.id)).field("stop_lat").value("0"));
                 return;
             }
         }
@@ -766,7 +770,7 @@ fn push_trip(tt: &mut Timetable, out: &mut Vec<Trip>, mut trip: Trip, group: &[S
 fn check_and_interpolate(feed: &str, tt: &Timetable, trip_id: &str, g: &mut [StopTimeRow]) -> Result<(), FeedIssue> {
     const FILE: &str = "stop_times.txt";
     if g.len() < 2 {
-        return Err(FeedIssue::new(feed, format!("trip {trip_id} has fewer than two stops; trip left out")).file(FILE).line(g.first().map_or(0, |r| r.line as u64)));
+        return Err(FeedIssue::new(feed, format!("trip {trip_id} has fewer than two stops; trip left out")).file(FILE).line(g.first().map_or(0, |r| r.line as u64)).field("trip_id").value(trip_id));
     }
     for r in [g[0], g[g.len() - 1]] {
         if r.arr == NO_TIME {

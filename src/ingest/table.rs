@@ -48,6 +48,20 @@ const NUMERIC_COLUMNS: &[&str] = &[
     "monday", "tuesday", "wednesday", "thursday", "friday", "saturday", "sunday",
 ];
 
+/// Enumerated columns and their values in the GTFS Schedule reference.
+const ENUM_COLUMNS: &[(&str, &[&str])] = &[
+    ("location_type", &["0", "1", "2", "3", "4"]),
+    ("wheelchair_boarding", &["0", "1", "2"]),
+    ("wheelchair_accessible", &["0", "1", "2"]),
+    ("bikes_allowed", &["0", "1", "2"]),
+    ("direction_id", &["0", "1"]),
+    ("pathway_mode", &["1", "2", "3", "4", "5", "6", "7"]),
+    ("is_bidirectional", &["0", "1"]),
+    ("transfer_type", &["0", "1", "2", "3", "4", "5"]),
+    ("exact_times", &["0", "1"]),
+    ("exception_type", &["1", "2"]),
+];
+
 /// Reads every row of `file` as `T`, calling `row(line, record)` for each good one. Returns
 /// `Ok(None)` when the file is absent.
 pub fn read_table<T: DeserializeOwned>(
@@ -75,11 +89,18 @@ pub fn read_table<T: DeserializeOwned>(
                 if matches!(e.kind(), csv::ErrorKind::Io(_)) {
                     return Err(FeedIssue::new(feed, csv_message(&e)).file(file).line(line));
                 }
-                warnings.push(FeedIssue::new(feed, format!("{}; row skipped", csv_message(&e))).file(file).line(line));
+                let mut issue = FeedIssue::new(feed, format!("{}; row skipped", csv_message(&e))).file(file).line(line);
+                if let csv::ErrorKind::Utf8 { err, .. } = e.kind() {
+                    if let Some(name) = headers.get(err.field()) {
+                        issue = issue.field(name);
+                    }
+                }
+                warnings.push(issue);
                 continue;
             }
         }
         let line = rec.position().map(|p| p.line()).unwrap_or(line);
+
         if rec.iter().all(str::is_empty) {
             continue;
         }
@@ -94,9 +115,15 @@ pub fn read_table<T: DeserializeOwned>(
                     csv::ErrorKind::Deserialize { err, .. } => err.field().map(|i| i as usize),
                     _ => None,
                 };
-                // Some field parsers report no field index; find the number that does not parse.
-                let field = field.or_else(|| {
-                    headers.iter().position(|h| NUMERIC_COLUMNS.contains(&h.as_str()) && rec.get(headers.iter().position(|x| x == h).unwrap_or(0)).is_some_and(|v| !v.is_empty() && v.parse::<f64>().is_err()))
+                // Some field parsers report no field index; find the number that does not parse,
+                // or the enumerated value outside its list.
+                // A short row: the first field it lacks.
+                let short = rec.len() < headers.len();
+                if short {
+                    issue.message = format!("row has {} fields but the header has {}; {}", rec.len(), headers.len(), issue.message);
+                }
+                let field = field.or(if short { Some(rec.len()) } else { None }).or_else(|| headers.iter().enumerate().position(|(i, h)| NUMERIC_COLUMNS.contains(&h.as_str()) && rec.get(i).is_some_and(|v| !v.is_empty() && v.parse::<f64>().is_err()))).or_else(|| {
+                    headers.iter().enumerate().position(|(i, h)| ENUM_COLUMNS.iter().any(|(c, ok)| c == h && rec.get(i).is_some_and(|v| !v.is_empty() && !ok.contains(&v))))
                 });
                 if let Some(i) = field {
                     if let Some(name) = headers.get(i) {
