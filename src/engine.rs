@@ -218,7 +218,15 @@ impl Engine {
     /// Resolves a stop given by id (`id` or `feed:id`) or by name.
     pub fn resolve(&self, text: &str) -> Result<StopIdx, QueryError> {
         let t = text.trim();
-        let by_id: Vec<usize> = self.tt.stops.iter().enumerate().filter(|(_, s)| s.id == t || format!("{}:{}", self.tt.feeds[s.feed.idx()].name, s.id) == t).map(|(i, _)| i).collect();
+        let scoped = t.split_once(':');
+        let by_id: Vec<usize> = self
+            .tt
+            .stops
+            .iter()
+            .enumerate()
+            .filter(|(_, s)| s.id == t || scoped.is_some_and(|(f, id)| s.id == id && self.tt.feeds[s.feed.idx()].name == f))
+            .map(|(i, _)| i)
+            .collect();
         if by_id.len() == 1 {
             return Ok(StopIdx(by_id[0] as u32));
         }

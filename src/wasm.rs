@@ -106,7 +106,7 @@ impl Engine {
         to_js(&self.core.sketch())
     }
 
-    /// Bytes of the routing structures (timetable events and the current date's graph).
+    /// Bytes of the timetable's per-stop-event arrays (the date's graph is not counted).
     pub fn memory_bytes(&self) -> usize {
         self.core.tt.event_bytes()
     }
