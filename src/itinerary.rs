@@ -289,7 +289,7 @@ impl Builder<'_> {
         let mut t = self.query_s;
         let mut at: Option<StopIdx> = None;
         let mut depart = None;
-        for (i, &(board, last)) in rides.iter().enumerate() {
+        for &(board, last) in &rides {
             let s = net.stop[board as usize];
             match at {
                 None => {
@@ -318,7 +318,6 @@ impl Builder<'_> {
             t = leg.arrive_s;
             at = Some(net.stop[last as usize + 1]);
             legs.push(leg);
-            let _ = i;
         }
         if let Some(v) = at {
             if !self.ends.targets.contains(&v) {

@@ -82,13 +82,12 @@ impl Network {
             }
         }
         let offsets: Vec<[i64; 3]> = tt.feeds.iter().map(|f| days.map(|day| origin_offset_s(tz, date, f.timezone, day))).collect();
-        let feed_of_trip = |t: usize| -> usize { tt.feeds.iter().position(|f| (f.trip_range.0 as usize..f.trip_range.1 as usize).contains(&t)).unwrap_or(0) };
-        let mut feed_cursor = 0usize;
+        // Trips are appended feed by feed, so the feed of a trip only moves forward.
+        let mut feed = 0usize;
         for (ti, trip) in tt.trips.iter().enumerate() {
-            while feed_cursor + 1 < tt.feeds.len() && ti >= tt.feeds[feed_cursor].trip_range.1 as usize {
-                feed_cursor += 1;
+            while feed + 1 < tt.feeds.len() && ti >= tt.feeds[feed].trip_range.1 as usize {
+                feed += 1;
             }
-            let feed = if tt.feeds.get(feed_cursor).is_some_and(|f| (f.trip_range.0 as usize..f.trip_range.1 as usize).contains(&ti)) { feed_cursor } else { feed_of_trip(ti) };
             for d in 0..3 {
                 if !runs[trip.service.idx()][d] {
                     continue;

@@ -700,7 +700,6 @@ fn read_stop_times(
     let mut out_trips: Vec<Trip> = Vec::with_capacity(trips.len());
     let mut i = 0;
     let mut group: Vec<StopTimeRow> = Vec::new();
-    let mut no_times = 0u64;
     let mut present = vec![false; trips.len()];
     while i < rows.len() {
         let t = rows[i].trip;
@@ -739,12 +738,7 @@ fn read_stop_times(
             }
         }
     }
-    for (t, seen) in present.iter().enumerate() {
-        if !seen {
-            no_times += 1;
-            let _ = t;
-        }
-    }
+    let no_times = present.iter().filter(|seen| !**seen).count();
     if no_times > 0 {
         w.push(FeedIssue::new(feed, format!("{no_times} trips have no usable stop_times rows and are left out")).file(FILE));
     }

@@ -430,16 +430,14 @@ impl Timetable {
     /// old ones.
     pub fn append(&mut self, mut other: Timetable) -> FeedIdx {
         let feed = FeedIdx(self.feeds.len() as u32);
-        let (so, ro, to, sv, eo, po, sh) = (
+        let (so, ro, to, sv, eo, sh) = (
             self.stops.len() as u32,
             self.routes.len() as u32,
             self.trips.len() as u32,
             self.services.len() as u32,
             self.ev_stop.len() as u32,
-            self.pathways.len() as u32,
             self.shapes.len() as u32,
         );
-        let _ = po;
         let s = |x: StopIdx| StopIdx(x.0 + so);
         for mut st in other.stops.drain(..) {
             st.feed = feed;
