@@ -51,6 +51,8 @@ pub struct Instance {
 
 #[derive(Debug, Clone)]
 pub struct Network {
+    /// Process-unique, so prepared search data can tell networks apart.
+    pub id: u64,
     pub date: NaiveDate,
     pub tz: Tz,
     pub instances: Vec<Instance>,
@@ -72,7 +74,7 @@ pub struct Network {
 impl Network {
     pub fn build(tt: &Timetable, date: NaiveDate) -> Network {
         let tz = tt.feeds.first().map(|f| f.timezone).unwrap_or(chrono_tz::UTC);
-        let mut net = Network { date, tz, instances: Vec::new(), arr: Vec::new(), dep: Vec::new(), stop: Vec::new(), flags: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), by_stop_dep: Vec::new(), trips_today: 0 };
+        let mut net = Network { id: crate::bounds::next_id(), date, tz, instances: Vec::new(), arr: Vec::new(), dep: Vec::new(), stop: Vec::new(), flags: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), by_stop_dep: Vec::new(), trips_today: 0 };
         let days = [date - Duration::days(1), date, date + Duration::days(1)];
         // Per feed and day: offset of that service day's origin, and which services run.
         let mut runs: Vec<[bool; 3]> = vec![[false; 3]; tt.services.len()];
@@ -170,6 +172,56 @@ impl Network {
         (i < deps.len()).then_some((a + i) as u32)
     }
 
+    /// The same, searching outward from position `near` (any value; out of the stop's range
+    /// means no hint) before bisecting: cheaper when the answer is close to it.
+    #[inline]
+    pub fn first_departure_near(&self, s: StopIdx, t: u32, near: u32) -> Option<u32> {
+        let (a, b) = (self.stop_first[s.idx()], self.stop_first[s.idx() + 1]);
+        if near < a || near >= b {
+            return self.first_departure(s, t);
+        }
+        let deps = &self.by_stop_dep;
+        // Bracket the answer in (lo, hi]: deps[lo] < t ≤ deps[hi], with a = virtual −∞, b = +∞.
+        let (mut lo, mut hi);
+        if deps[near as usize] < t {
+            lo = near;
+            let mut step = 1;
+            loop {
+                let next = lo + step;
+                if next >= b {
+                    hi = b;
+                    break;
+                }
+                if deps[next as usize] >= t {
+                    hi = next;
+                    break;
+                }
+                lo = next;
+                step *= 2;
+            }
+            lo += 1;
+        } else {
+            hi = near;
+            let mut step = 1;
+            loop {
+                if hi < a + step {
+                    lo = a;
+                    break;
+                }
+                let prev = hi - step;
+                if deps[prev as usize] < t {
+                    lo = prev + 1;
+                    break;
+                }
+                hi = prev;
+                step *= 2;
+            }
+        }
+        // Now the answer lies in [lo, hi] (hi = b meaning none).
+        let i = lo + deps[lo as usize..hi as usize].partition_point(|&d| d < t) as u32;
+        (i < b).then_some(i)
+    }
+
     /// The instance an event belongs to.
     pub fn instance_of(&self, e: u32) -> &Instance {
         let i = self.instances.partition_point(|inst| inst.first <= e) - 1;
@@ -198,5 +250,34 @@ fn step_free_bits(trip: Access, stop: Access) -> u8 {
         (Access::No, _) | (_, Access::No) => 0,
         (Access::Yes, Access::Yes) => STEP_FREE_YES,
         _ => STEP_FREE_UNKNOWN,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn with_departures(stops: &[Vec<u32>]) -> Network {
+        let mut stop_first = vec![0u32];
+        let mut by_stop_dep = Vec::new();
+        for deps in stops {
+            let mut d = deps.clone();
+            d.sort_unstable();
+            by_stop_dep.extend(d);
+            stop_first.push(by_stop_dep.len() as u32);
+        }
+        Network { id: 0, date: NaiveDate::MIN, tz: chrono_tz::UTC, instances: vec![], arr: vec![], dep: vec![], stop: vec![], flags: vec![], stop_first, by_stop: vec![], by_stop_dep, trips_today: 0 }
+    }
+
+    proptest! {
+        // The galloping search must find what std's `partition_point` (the reference, a plain
+        // binary search) finds, from any hint, inside or outside the stop's range.
+        #[test]
+        fn galloping_matches_partition_point(stops in prop::collection::vec(prop::collection::vec(0u32..200, 0..40), 1..4), s in 0usize..4, t in 0u32..210, near in 0u32..130) {
+            let net = with_departures(&stops);
+            let s = StopIdx((s % stops.len()) as u32);
+            prop_assert_eq!(net.first_departure_near(s, t, near), net.first_departure(s, t));
+        }
     }
 }

@@ -11,9 +11,10 @@
 
 use serde::Serialize;
 
-use crate::radix_heap::RadixHeap;
+use crate::bounds::{Active, Landmarks, Prepared, WalkKey, WalkLinks, UNREACHABLE};
 use crate::network::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
-use crate::timetable::{Footpath, StopIdx, Timetable, WalkProfile, NO_DROP_OFF, NO_PICKUP};
+use crate::radix_heap::RadixHeap;
+use crate::timetable::{StopIdx, Timetable, WalkProfile, NO_DROP_OFF, NO_PICKUP};
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize, Default)]
 #[serde(rename_all = "snake_case")]
@@ -117,18 +118,43 @@ pub struct SearchState {
     labels: Vec<Label>,
     generation: u32,
     heap: RadixHeap,
-    is_target: Vec<u32>,
+    /// What this search knows of each stop, in one record so a touch costs one cache miss.
+    marks: Vec<StopMark>,
     stop_arrival: Vec<u32>,
-    /// Per stop, the first alighting label (arrival time, cost − time) of this search; a later
-    /// alighting no earlier and no cheaper in offset is dominated and not expanded.
-    alight: Vec<(u32, u32, u32)>,
-    /// Per stop, the first waiting-chain entry (requested time, cost − time) of this search.
-    entry: Vec<(u32, u32, u32)>,
     prune: bool,
     /// Nodes per layer (2 × events + sink + spare).
     layer_nodes: u32,
     layers: u32,
+    /// Cost of the best sink label so far: nodes whose key exceeds it are not pushed.
+    best: u32,
+    /// Walking links and landmark tables per walking setting, most recently used last.
+    prepared: Vec<Box<Prepared>>,
     pub settled: u64,
+}
+
+/// Walking settings whose prepared data are kept (each holds the links and, once used for a
+/// point-to-point search, 128 bytes of landmark distances per stop).
+const PREPARED_KEPT: usize = 4;
+
+/// Per stop and search. A record whose `stamp` is not the search's generation is read as fresh:
+/// bound not computed, no entry, no alighting, not a target.
+#[derive(Debug, Clone, Copy, Default)]
+#[repr(C, align(32))]
+struct StopMark {
+    stamp: u32,
+    /// Lower bound on the cost from a ride node here to the sink.
+    h: u32,
+    /// The best-known waiting-chain entry (requested time, cost − time): a later entry no
+    /// earlier and no cheaper in offset is dominated and skipped.
+    entry_t: u32,
+    entry_off: u32,
+    /// The same for alightings (arrival time, cost − time).
+    alight_t: u32,
+    alight_off: u32,
+    /// Where the last departure search at this stop ended: the next one gallops from there, as
+    /// a search asks about nearby times at a stop again and again.
+    last_pos: u32,
+    target: bool,
 }
 
 #[derive(Debug, Clone, Copy, Default)]
@@ -155,24 +181,40 @@ impl SearchState {
         if self.labels.len() < total {
             self.labels.resize(total, Label { stamp: 0, cost: u32::MAX, pred: NO_PRED });
         }
-        if self.is_target.len() < stops {
-            self.is_target.resize(stops, 0);
+        if self.marks.len() < stops {
+            self.marks.resize(stops, StopMark::default());
             self.stop_arrival.resize(stops, u32::MAX);
-            self.alight.resize(stops, (0, 0, 0));
-            self.entry.resize(stops, (0, 0, 0));
         }
         // Domination between labels holds only within one layer.
         self.prune = layers == 1;
         self.generation = self.generation.wrapping_add(1);
         if self.generation == 0 {
             self.labels.iter_mut().for_each(|l| l.stamp = 0);
-            self.is_target.iter_mut().for_each(|s| *s = 0);
-            self.alight.iter_mut().for_each(|s| *s = (0, 0, 0));
-            self.entry.iter_mut().for_each(|s| *s = (0, 0, 0));
+            self.marks.iter_mut().for_each(|m| m.stamp = 0);
             self.generation = 1;
         }
         self.heap.clear();
         self.settled = 0;
+        self.best = u32::MAX;
+    }
+
+    /// The prepared data for `key`, built when missing (links always; landmarks when `goal`).
+    /// The caller hands it back with [`SearchState::give_back`].
+    fn take_prepared(&mut self, tt: &Timetable, net: &Network, key: WalkKey, goal: bool) -> Box<Prepared> {
+        let mut prep = match self.prepared.iter().position(|p| p.key == key) {
+            Some(i) => self.prepared.remove(i),
+            None => Box::new(Prepared { key, walk: WalkLinks::build(tt, &key), landmarks: None }),
+        };
+        if goal && prep.landmarks.is_none() {
+            prep.landmarks = Some(Landmarks::build(tt, net, &prep.walk));
+        }
+        prep
+    }
+    fn give_back(&mut self, prep: Box<Prepared>) {
+        if self.prepared.len() >= PREPARED_KEPT {
+            self.prepared.remove(0);
+        }
+        self.prepared.push(prep);
     }
 
     /// Cost of a node in the last search, `None` when it was not reached.
@@ -195,12 +237,29 @@ impl SearchState {
         &self.stop_arrival
     }
 
+    /// Lowers `node` to `cost` when that is better; `h` is its bound to the target (its A* key is
+    /// `cost + h`), and a key above the best sink found so far is not worth pushing.
     #[inline]
-    fn relax(&mut self, node: u32, cost: u32, pred: u32) {
+    fn relax(&mut self, node: u32, cost: u32, h: u32, pred: u32) {
+        if h == UNREACHABLE {
+            return;
+        }
+        let key = cost + h;
+        if key > self.best {
+            return;
+        }
         let l = &mut self.labels[node as usize];
         if l.stamp != self.generation || cost < l.cost {
             *l = Label { stamp: self.generation, cost, pred };
-            self.heap.push(cost, node);
+            self.heap.push(key, node);
+        }
+    }
+    /// Relaxes the sink of layer `base` (bound 0).
+    #[inline]
+    fn relax_sink(&mut self, sink: u32, cost: u32, pred: u32, prune: bool) {
+        self.relax(sink, cost, 0, pred);
+        if prune && cost < self.best {
+            self.best = cost;
         }
     }
 }
@@ -252,19 +311,36 @@ struct Ctx<'a> {
     horizon: u32,
     goal: Goal,
     e: u32,
+    /// Landmark tables, and the landmarks chosen for this query, when it is goal-directed.
+    landmarks: Option<(&'a Landmarks, Active)>,
+    targets: &'a [StopIdx],
 }
 
 impl Ctx<'_> {
+    /// The record of stop `s` in this search, made fresh (with its bound) on first touch.
     #[inline]
-    fn walk_ok(&self, f: &Footpath) -> bool {
-        f.length_m as f64 <= self.p.max_walk_m
+    fn mark<'s>(&self, st: &'s mut SearchState, s: StopIdx) -> &'s mut StopMark {
+        let gen = st.generation;
+        let m = &mut st.marks[s.idx()];
+        if m.stamp != gen {
+            let h = self.landmarks.map_or(0, |(lm, act)| self.targets.iter().map(|&t| lm.bound(&act, s, t)).min().unwrap_or(0));
+            *m = StopMark { stamp: gen, h, entry_t: u32::MAX, entry_off: u32::MAX, alight_t: u32::MAX, alight_off: u32::MAX, last_pos: u32::MAX, target: false };
+        }
+        m
     }
+    /// Lower bound on the cost from a ride node at `s` to the sink (0 when not goal-directed).
     #[inline]
-    fn walk_cost(&self, d: u32) -> u32 {
-        if self.p.walk_weight == 1.0 {
-            d
+    fn h_ride(&self, st: &mut SearchState, s: StopIdx) -> u32 {
+        self.mark(st, s).h
+    }
+    /// The same for a waiting node: the sink is reached only on board, so at least one more
+    /// boarding, and its penalty, lies ahead.
+    #[inline]
+    fn h_wait(&self, h_ride: u32) -> u32 {
+        if h_ride == UNREACHABLE || self.landmarks.is_none() {
+            h_ride
         } else {
-            (d as f64 * self.p.walk_weight).round() as u32
+            h_ride + self.p.transfer_penalty_s
         }
     }
     #[inline]
@@ -275,27 +351,30 @@ impl Ctx<'_> {
     /// Enters the waiting chain of `s` at the first departure at or after `t`.
     #[inline]
     fn enter(&self, st: &mut SearchState, layer_base: u32, s: StopIdx, t: u32, cost: u32, pred: u32) {
+        let (prune, best) = (st.prune, st.best);
+        let m = self.mark(st, s);
+        let h = self.h_wait(m.h);
+        if h == UNREACHABLE || cost + h > best {
+            return;
+        }
         // Entering at time t with cost c gives every later waiting node the cost
         // c − t + its time, so an earlier entry (time ≤ t) at no greater offset c − t dominates
         // this one and nothing would change: skip it before searching the departures.
         let off = cost - t;
-        if st.prune {
-            let (gen, t0, off0) = st.entry[s.idx()];
-            if gen == st.generation {
-                if t0 <= t && off0 <= off {
-                    return;
-                }
-                if t <= t0 && off <= off0 {
-                    st.entry[s.idx()] = (gen, t, off);
-                }
-            } else {
-                st.entry[s.idx()] = (st.generation, t, off);
+        if prune {
+            if m.entry_t <= t && m.entry_off <= off {
+                return;
+            }
+            if t <= m.entry_t && off <= m.entry_off {
+                (m.entry_t, m.entry_off) = (t, off);
             }
         }
-        if let Some(p) = self.net.first_departure(s, t) {
+        let found = self.net.first_departure_near(s, t, m.last_pos);
+        if let Some(p) = found {
+            m.last_pos = p;
             let dep = self.net.by_stop_dep[p as usize];
             if dep <= self.horizon {
-                st.relax(layer_base + p, cost + (dep - t), pred);
+                st.relax(layer_base + p, cost + (dep - t), h, pred);
             }
         }
     }
@@ -308,18 +387,18 @@ impl Ctx<'_> {
             return true;
         }
         let off = at - ta;
-        let (gen, ta0, off0) = st.alight[s.idx()];
-        if gen == st.generation {
-            if ta0 <= ta && off0 <= off {
-                return false;
-            }
-            if ta <= ta0 && off <= off0 {
-                st.alight[s.idx()] = (gen, ta, off);
-            }
-        } else {
-            st.alight[s.idx()] = (st.generation, ta, off);
+        let m = self.mark(st, s);
+        if m.alight_t <= ta && m.alight_off <= off {
+            return false;
+        }
+        if ta <= m.alight_t && off <= m.alight_off {
+            (m.alight_t, m.alight_off) = (ta, off);
         }
         true
+    }
+
+    fn is_target(&self, st: &mut SearchState, s: StopIdx) -> bool {
+        self.mark(st, s).target
     }
 
     fn record_arrival(&self, st: &mut SearchState, s: StopIdx, t: u32) {
@@ -359,11 +438,26 @@ fn rule_boardings(tt: &Timetable, net: &Network, p: &Params, cx: &Ctx, e2: usize
 
 fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params, layers: u32, goal: Goal) {
     st.reset(net, tt.stops.len(), layers);
-    let walk = tt.walk(p.step_free.walk_profile());
-    let cx = Ctx { net, p, mask: p.step_free.event_mask(), horizon: depart_s.saturating_add(p.max_duration_s), goal, e: net.events() as u32 };
-    let gen = st.generation;
+    let key = WalkKey { network: net.id, profile: p.step_free.walk_profile(), speed_mps: p.walk_speed_mps, max_walk_m: p.max_walk_m, weight: p.walk_weight };
+    let directed = goal == Goal::Target && !ends.targets.is_empty();
+    let prep = st.take_prepared(tt, net, key, directed);
+    search_loop(tt, net, st, &prep, ends, depart_s, p, layers, goal);
+    st.give_back(prep);
+}
+
+#[allow(clippy::too_many_arguments)]
+fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepared, ends: &Endpoints, depart_s: u32, p: &Params, layers: u32, goal: Goal) {
+    let walk = &prep.walk;
+    let landmarks = match (goal, prep.landmarks.as_ref(), ends.origins.first(), ends.targets.first()) {
+        (Goal::Target, Some(lm), Some(&o), Some(&t)) => Some((lm, lm.select(o, t))),
+        _ => None,
+    };
+    let cx = Ctx { net, p, mask: p.step_free.event_mask(), horizon: depart_s.saturating_add(p.max_duration_s), goal, e: net.events() as u32, landmarks, targets: &ends.targets };
+    // With one layer, the first sink label bounds every useful key; with several, each layer's
+    // sink is wanted on its own.
+    let prune_by_sink = layers == 1 && goal == Goal::Target;
     for &t in &ends.targets {
-        st.is_target[t.idx()] = gen;
+        cx.mark(st, t).target = true;
     }
     if goal == Goal::All {
         st.stop_arrival.iter_mut().for_each(|a| *a = u32::MAX);
@@ -372,20 +466,14 @@ fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, de
         cx.record_arrival(st, o, depart_s);
         cx.enter(st, 0, o, depart_s, depart_s, FROM_ORIGIN);
         for f in walk.from(o) {
-            if cx.walk_ok(f) {
-                let d = f.duration_s(p.walk_speed_mps);
-                cx.record_arrival(st, f.to, depart_s + d);
-                cx.enter(st, 0, f.to, depart_s + d, depart_s + cx.walk_cost(d), FROM_ORIGIN);
-            }
+            cx.record_arrival(st, f.to, depart_s + f.walk_s);
+            cx.enter(st, 0, f.to, depart_s + f.walk_s, depart_s + f.cost_s, FROM_ORIGIN);
         }
     }
     let per = st.layer_nodes;
     let mut sinks_left = layers;
-    while let Some((c, node)) = st.heap.pop() {
-        if c > st.labels[node as usize].cost {
-            continue;
-        }
-        st.settled += 1;
+    while let Some((key, node)) = st.heap.pop() {
+        let c = st.labels[node as usize].cost;
         let (layer, local) = (node / per, node % per);
         let base = layer * per;
         let e_count = cx.e;
@@ -393,28 +481,40 @@ fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, de
             // Waiting node W(p).
             let pos = local;
             let ev = net.by_stop[pos as usize] as usize;
-            let t = net.by_stop_dep[pos as usize];
             let s = net.stop[ev];
+            let h = cx.h_wait(cx.h_ride(st, s));
+            if key > c + h {
+                continue;
+            }
+            st.settled += 1;
+            let t = net.by_stop_dep[pos as usize];
             if pos + 1 < net.stop_first[s.idx() + 1] {
                 let nt = net.by_stop_dep[pos as usize + 1];
                 if nt <= cx.horizon {
-                    st.relax(node + 1, c + (nt - t), node);
+                    st.relax(node + 1, c + (nt - t), h, node);
                 }
             }
             let f = net.flags[ev];
             if f & (NO_PICKUP | LAST_OF_TRIP) == 0 && cx.event_ok(ev) {
                 let next_layer = if layers == 1 { 0 } else { layer + 1 };
                 if next_layer < layers {
-                    st.relax(next_layer * per + e_count + ev as u32, c + p.transfer_penalty_s, node);
+                    let hr = cx.h_ride(st, s);
+                    st.relax(next_layer * per + e_count + ev as u32, c + p.transfer_penalty_s, hr, node);
                 }
             }
         } else if local < 2 * e_count {
             // Ride node R(e): on board, leaving at dep[e].
             let e = (local - e_count) as usize;
+            if key > c + cx.h_ride(st, net.stop[e]) {
+                continue;
+            }
+            st.settled += 1;
             let t = net.dep[e];
             let e2 = e + 1;
+            let v = net.stop[e2];
             if net.flags[e2] & LAST_OF_TRIP == 0 && net.dep[e2] <= cx.horizon {
-                st.relax(node + 1, c + (net.dep[e2] - t), node);
+                let h = cx.h_ride(st, v);
+                st.relax(node + 1, c + (net.dep[e2] - t), h, node);
             }
             if net.flags[e2] & NO_DROP_OFF != 0 || !cx.event_ok(e2) {
                 continue;
@@ -423,39 +523,43 @@ fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, de
             if ta > cx.horizon {
                 continue;
             }
-            let v = net.stop[e2];
             let at = c + (ta - t);
-            if !cx.alight_useful(st, v, ta, at) {
+            if at > st.best || !cx.alight_useful(st, v, ta, at) {
                 continue;
             }
             cx.record_arrival(st, v, ta);
-            if st.is_target[v.idx()] == gen {
-                st.relax(base + per - 1, at, node);
+            if cx.is_target(st, v) {
+                st.relax_sink(base + per - 1, at, node, prune_by_sink);
             }
             if net.flags[e2] & HAS_RULES != 0 {
                 let next = if layers == 1 { 0 } else { layer + 1 };
                 if next < layers {
                     for (f, cost) in rule_boardings(tt, net, p, &cx, e2, at) {
-                        st.relax(next * per + e_count + f, cost, node);
+                        let h = cx.h_ride(st, v);
+                        st.relax(next * per + e_count + f, cost, h, node);
                     }
                 }
             } else if let Some(mt) = tt.stop_transfer_s(v, p.transfer_s()) {
                 cx.enter(st, base, v, ta + mt, at + mt, node);
             }
             for f in walk.from(v) {
-                if !cx.walk_ok(f) {
-                    continue;
+                let wc = at + f.cost_s;
+                // Links are sorted by cost: none after this one can beat the best journey.
+                if wc > st.best {
+                    break;
                 }
-                let d = f.duration_s(p.walk_speed_mps);
-                let wc = at + cx.walk_cost(d);
-                cx.record_arrival(st, f.to, ta + d);
-                if st.is_target[f.to.idx()] == gen {
-                    st.relax(base + per - 1, wc, node);
+                cx.record_arrival(st, f.to, ta + f.walk_s);
+                if cx.is_target(st, f.to) {
+                    st.relax_sink(base + per - 1, wc, node, prune_by_sink);
                 }
-                cx.enter(st, base, f.to, ta + d, wc, node);
+                cx.enter(st, base, f.to, ta + f.walk_s, wc, node);
             }
         } else {
             // Sink.
+            if key > c {
+                continue;
+            }
+            st.settled += 1;
             if goal == Goal::Target {
                 sinks_left -= 1;
                 if sinks_left == 0 {
@@ -690,7 +794,7 @@ pub fn edges_of(tt: &Timetable, net: &Network, ends: &Endpoints, p: &Params, nod
                     out.push((per - 1, ta - t));
                 }
                 if net.flags[e2] & HAS_RULES != 0 {
-                    let cx = Ctx { net, p, mask, horizon: u32::MAX, goal: Goal::All, e: e_count };
+                    let cx = Ctx { net, p, mask, horizon: u32::MAX, goal: Goal::All, e: e_count, landmarks: None, targets: &[] };
                     for (f, cost) in rule_boardings(tt, net, p, &cx, e2, ta - t) {
                         out.push((e_count + f, cost));
                     }

@@ -98,13 +98,12 @@ fn first_at(net: &Network, s: StopIdx, t: u32) -> Option<u32> {
     (net.stop_first[s.idx()]..net.stop_first[s.idx() + 1]).find(|&p| net.dep[net.by_stop[p as usize] as usize] >= t)
 }
 
-/// Compares one search with petgraph; returns how many nodes were reached.
-fn compare(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u32, p: &Params) -> usize {
-    let ends = Endpoints { origins: origins.to_vec(), targets: vec![] };
-    let mut st = SearchState::new();
-    search::run_all(tt, net, &mut st, &ends, depart_s, p);
-
+/// The search's graph for `ends` in petgraph: every node's edges from `search::edges_of` (only
+/// into nodes within the time limit, and into the sink only from alightings within it), plus a
+/// source joined to where the origins enter. Returns the graph and its source.
+fn oracle_graph(tt: &Timetable, net: &Network, ends: &Endpoints, depart_s: u32, p: &Params) -> (Graph<(), u32>, NodeIndex) {
     let nodes = 2 * net.events() as u32 + 1;
+    let horizon = depart_s + p.max_duration_s;
     let mut g: Graph<(), u32> = Graph::with_capacity(nodes as usize + 1, 4 * nodes as usize);
     for _ in 0..nodes {
         g.add_node(());
@@ -119,32 +118,47 @@ fn compare(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u32, p:
                 continue;
             }
         }
-        search::edges_of(tt, net, &ends, p, node, &mut out);
+        search::edges_of(tt, net, ends, p, node, &mut out);
         for &(to, w) in &out {
-            g.add_edge(NodeIndex::new(node as usize), NodeIndex::new(to as usize), w);
+            let within = match (decode(net, node).1, decode(net, to).1) {
+                (Node::Ride(e), Node::Sink) => net.arr[e as usize + 1] <= horizon,
+                _ => node_time(net, to).is_some_and(|t| t <= horizon),
+            };
+            if within {
+                g.add_edge(NodeIndex::new(node as usize), NodeIndex::new(to as usize), w);
+            }
         }
     }
     let dep = |q: u32| net.dep[net.by_stop[q as usize] as usize];
     let walk_cost = |d: u32| if p.walk_weight == 1.0 { d } else { (d as f64 * p.walk_weight).round() as u32 };
-    for &o in origins {
-        if let Some(q) = first_at(net, o, depart_s) {
+    for &o in &ends.origins {
+        if let Some(q) = first_at(net, o, depart_s).filter(|&q| dep(q) <= horizon) {
             g.add_edge(source, NodeIndex::new(q as usize), dep(q) - depart_s);
         }
         for f in tt.walk(p.step_free.walk_profile()).from(o) {
             if f.length_m as f64 <= p.max_walk_m {
                 let d = f.duration_s(p.walk_speed_mps);
-                if let Some(q) = first_at(net, f.to, depart_s + d) {
+                if let Some(q) = first_at(net, f.to, depart_s + d).filter(|&q| dep(q) <= horizon) {
                     g.add_edge(source, NodeIndex::new(q as usize), walk_cost(d) + (dep(q) - depart_s - d));
                 }
             }
         }
     }
+    (g, source)
+}
+
+/// Compares one search with petgraph; returns how many nodes were reached.
+fn compare(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u32, p: &Params) -> usize {
+    let ends = Endpoints { origins: origins.to_vec(), targets: vec![] };
+    let mut st = SearchState::new();
+    search::run_all(tt, net, &mut st, &ends, depart_s, p);
+    let (g, source) = oracle_graph(tt, net, &ends, depart_s, p);
 
     // petgraph::algo::dijkstra as an independent reference implementation.
     let dist = petgraph::algo::dijkstra(&g, source, None, |e| *e.weight());
     let horizon = depart_s + p.max_duration_s;
     let mut reached = 0;
-    for node in 0..nodes {
+    for node in 0..2 * net.events() as u32 + 1 {
         let engine = st.cost_of(node);
         let within = node_time(net, node).is_some_and(|t| t <= horizon);
         if within {
@@ -153,6 +167,29 @@ fn compare(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u32, p:
         } else {
             assert_eq!(engine, None, "node {node} is past the time limit but was reached");
         }
+        reached += usize::from(engine.is_some());
+    }
+    reached
+}
+
+/// The goal-directed search (landmark bounds, pruning by the best sink) against petgraph's plain
+/// Dijkstra to the sink, for every target stop; returns how many targets were reached.
+fn compare_to_targets(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u32, p: &Params) -> usize {
+    let mut st = SearchState::new();
+    let mut reached = 0;
+    for t in 0..tt.stops.len() as u32 {
+        let target = StopIdx(t);
+        if origins.contains(&target) {
+            continue;
+        }
+        let ends = Endpoints { origins: origins.to_vec(), targets: vec![target] };
+        search::run_to_target(tt, net, &mut st, &ends, depart_s, p);
+        let engine = st.cost_of(st.sink(0));
+        let (g, source) = oracle_graph(tt, net, &ends, depart_s, p);
+        let sink = NodeIndex::new(2 * net.events());
+        // petgraph::algo::dijkstra as an independent reference implementation.
+        let oracle = petgraph::algo::dijkstra(&g, source, Some(sink), |e| *e.weight()).get(&sink).map(|d| d + depart_s);
+        assert_eq!(engine, oracle, "sink cost to {target:?}, query {depart_s} from {origins:?}, {p:?}");
         reached += usize::from(engine.is_some());
     }
     reached
@@ -188,6 +225,26 @@ fn node_costs_equal_petgraph_dijkstra() {
         let origins: Vec<StopIdx> = origins.iter().map(|id| stop(tt, id)).collect();
         let reached = compare(tt, &net, &origins, depart_s, &p);
         assert!(reached > 200, "only {reached} nodes reached from {origins:?} at {depart_s}; the comparison would be weak");
+    }
+}
+
+#[test]
+fn goal_directed_sink_costs_equal_petgraph_dijkstra() {
+    let engine: Engine = random_feed(0x7157_2026).load();
+    let tt = &engine.tt;
+    let net = Network::build(tt, NaiveDate::from_ymd_opt(2026, 6, 10).expect("date"));
+    let heavy = Params { transfer_penalty_s: 120, walk_weight: 2.0, max_walk_m: 500.0, ..Params::default() };
+    let cases: Vec<(Vec<&str>, u32, Params)> = vec![
+        (vec!["S0"], 7 * 3600, Params::default()),
+        (vec!["S5", "S6"], 6 * 3600 + 1800, heavy),
+        (vec!["S10"], 7 * 3600 + 900, Params::new(StepFree::Strict)),
+        (vec!["S12"], 1200, Params { max_duration_s: 8 * 3600, ..Params::new(StepFree::Lenient) }),
+        (vec!["S7"], 8 * 3600 + 17, Params { transfer_penalty_s: 0, max_duration_s: 3600, ..Params::default() }),
+    ];
+    for (origins, depart_s, p) in cases {
+        let origins: Vec<StopIdx> = origins.iter().map(|id| stop(tt, id)).collect();
+        let reached = compare_to_targets(tt, &net, &origins, depart_s, &p);
+        assert!(reached > 5, "only {reached} targets reached from {origins:?} at {depart_s}; the comparison would be weak");
     }
 }
 

@@ -1,0 +1,299 @@
+//! What a search prepares once per network and walking setting, and reuses query after query:
+//! the walking links at the query's speed, and lower bounds on the cost still to go, for
+//! goal-directed search (A*).
+//!
+//! **Walking links.** The timetable stores each link's length and fixed time; a search needs
+//! seconds at one speed, filtered by the longest walk allowed. [`WalkLinks`] holds exactly that,
+//! 12 bytes a link, sorted by cost within a stop, so the hot loop does no floating point and can
+//! stop at the first link too long for the best journey found so far.
+//!
+//! **Lower bounds (landmarks).** A *stop graph* relaxes the time-expanded graph: one edge per pair
+//! of consecutive stops of any trip, weighted by the fastest ride between them that day, plus the
+//! walking links at their cost. Its shortest distances never exceed the cost of any journey
+//! (waiting, penalties and timetables only add), so for landmarks `L` the triangle inequality gives
+//! `d(s, T) ≥ max(d(L, T) − d(L, s), d(s, L) − d(T, L))` (Goldberg and Harrelson, "Computing
+//! the shortest path: A* search meets graph theory", SODA 2005). Tables of `d(L, ·)` and
+//! `d(·, L)` cost two stop-graph Dijkstras per landmark, once; a query reads two rows per stop it
+//! touches. A stop that cannot reach a landmark the target reaches cannot reach the target:
+//! its bound is [`UNREACHABLE`] and the search never enters it.
+//!
+//! **Invariant:** the bound is *consistent* (for every edge `u → v` of the time-expanded graph,
+//! `h(u) ≤ w(u, v) + h(v)`), because every such edge is matched by a stop-graph path no longer than
+//! it. So A* keys never decrease, the radix heap stays valid, and every node the search settles
+//! carries its exact Dijkstra cost.
+
+use std::sync::atomic::{AtomicU64, Ordering};
+
+use crate::network::{Network, LAST_OF_TRIP};
+use crate::radix_heap::RadixHeap;
+use crate::timetable::{StopIdx, Timetable, WalkProfile};
+
+/// Bound of a stop that cannot reach the target.
+pub const UNREACHABLE: u32 = u32::MAX;
+
+/// Landmarks per table, and how many of them one query uses. 16 and 8 are common choices for
+/// ALT (common practice, no source); measured here in DEVELOPERS.md.
+pub const LANDMARKS: usize = 16;
+pub const ACTIVE: usize = 8;
+
+static NEXT_ID: AtomicU64 = AtomicU64::new(1);
+
+/// A process-unique id, so caches can tell one built network from another.
+pub fn next_id() -> u64 {
+    NEXT_ID.fetch_add(1, Ordering::Relaxed)
+}
+
+/// The walking setting that prepared data depend on.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WalkKey {
+    pub network: u64,
+    pub profile: WalkProfile,
+    pub speed_mps: f64,
+    pub max_walk_m: f64,
+    pub weight: f64,
+}
+
+/// One walking link at one speed.
+#[derive(Debug, Clone, Copy)]
+pub struct Link {
+    pub to: StopIdx,
+    /// Walking time, s.
+    pub walk_s: u32,
+    /// Its cost in the search (walking time × walk weight).
+    pub cost_s: u32,
+}
+
+/// Walking links of one profile at one speed, within the longest walk, in CSR form sorted by cost.
+#[derive(Debug, Clone, Default)]
+pub struct WalkLinks {
+    first: Vec<u32>,
+    links: Vec<Link>,
+}
+
+impl WalkLinks {
+    pub fn build(tt: &Timetable, key: &WalkKey) -> WalkLinks {
+        let set = tt.walk(key.profile);
+        let mut out = WalkLinks { first: Vec::with_capacity(tt.stops.len() + 1), links: Vec::new() };
+        out.first.push(0);
+        for s in 0..tt.stops.len() {
+            let start = out.links.len();
+            for f in set.from(StopIdx(s as u32)) {
+                if f.length_m as f64 <= key.max_walk_m {
+                    let walk_s = f.duration_s(key.speed_mps);
+                    let cost_s = if key.weight == 1.0 { walk_s } else { (walk_s as f64 * key.weight).round() as u32 };
+                    out.links.push(Link { to: f.to, walk_s, cost_s });
+                }
+            }
+            out.links[start..].sort_unstable_by_key(|l| (l.cost_s, l.to));
+            out.first.push(out.links.len() as u32);
+        }
+        out
+    }
+
+    #[inline]
+    pub fn from(&self, s: StopIdx) -> &[Link] {
+        &self.links[self.first[s.idx()] as usize..self.first[s.idx() + 1] as usize]
+    }
+
+    pub fn bytes(&self) -> usize {
+        self.first.capacity() * 4 + self.links.capacity() * std::mem::size_of::<Link>()
+    }
+}
+
+/// A weighted directed graph over stops in CSR form.
+struct StopGraph {
+    first: Vec<u32>,
+    to: Vec<u32>,
+    w: Vec<u32>,
+}
+
+impl StopGraph {
+    fn from_edges(n: usize, mut edges: Vec<(u32, u32, u32)>) -> StopGraph {
+        edges.sort_unstable();
+        edges.dedup_by_key(|e| (e.0, e.1));
+        let mut first = vec![0u32; n + 1];
+        for e in &edges {
+            first[e.0 as usize + 1] += 1;
+        }
+        for i in 0..n {
+            first[i + 1] += first[i];
+        }
+        StopGraph { first, to: edges.iter().map(|e| e.1).collect(), w: edges.iter().map(|e| e.2).collect() }
+    }
+
+    /// Distances from `src` to every stop (`UNREACHABLE` where none).
+    fn dijkstra(&self, src: usize, heap: &mut RadixHeap, dist: &mut [u32]) {
+        dist.iter_mut().for_each(|d| *d = UNREACHABLE);
+        heap.clear();
+        dist[src] = 0;
+        heap.push(0, src as u32);
+        while let Some((d, u)) = heap.pop() {
+            if d > dist[u as usize] {
+                continue;
+            }
+            let (a, b) = (self.first[u as usize] as usize, self.first[u as usize + 1] as usize);
+            for i in a..b {
+                let v = self.to[i] as usize;
+                let nd = d.saturating_add(self.w[i]);
+                if nd < dist[v] {
+                    dist[v] = nd;
+                    heap.push(nd, v as u32);
+                }
+            }
+        }
+    }
+}
+
+/// Landmark distance tables: for stop `s`, `rows[s][2i]` is `d(L_i, s)` and `rows[s][2i + 1]` is
+/// `d(s, L_i)`, so one stop's bound reads one row.
+#[derive(Debug, Clone, Default)]
+pub struct Landmarks {
+    pub landmarks: Vec<StopIdx>,
+    rows: Vec<[u32; 2 * LANDMARKS]>,
+}
+
+impl Landmarks {
+    pub fn build(tt: &Timetable, net: &Network, walk: &WalkLinks) -> Landmarks {
+        let n = tt.stops.len();
+        if n == 0 {
+            return Landmarks::default();
+        }
+        // Stop graph: the fastest ride between consecutive stops, and the walking links.
+        let mut edges: Vec<(u32, u32, u32)> = Vec::new();
+        let mut next: Vec<(u32, u32)> = Vec::new();
+        for s in 0..n {
+            next.clear();
+            for p in net.stop_first[s]..net.stop_first[s + 1] {
+                let e = net.by_stop[p as usize] as usize;
+                if net.flags[e] & LAST_OF_TRIP != 0 {
+                    continue;
+                }
+                let v = net.stop[e + 1].0;
+                let w = net.arr[e + 1].min(net.dep[e + 1]).saturating_sub(net.dep[e]);
+                match next.iter_mut().find(|x| x.0 == v) {
+                    Some(x) => x.1 = x.1.min(w),
+                    None => next.push((v, w)),
+                }
+            }
+            edges.extend(next.iter().map(|&(v, w)| (s as u32, v, w)));
+            edges.extend(walk.from(StopIdx(s as u32)).iter().map(|l| (s as u32, l.to.0, l.cost_s)));
+        }
+        let reversed: Vec<(u32, u32, u32)> = edges.iter().map(|&(a, b, w)| (b, a, w)).collect();
+        let fwd = StopGraph::from_edges(n, edges);
+        let bwd = StopGraph::from_edges(n, reversed);
+
+        let landmarks = pick_landmarks(tt, net);
+        let mut rows = vec![[UNREACHABLE; 2 * LANDMARKS]; n];
+        let mut heap = RadixHeap::default();
+        let mut dist = vec![UNREACHABLE; n];
+        for (i, l) in landmarks.iter().enumerate() {
+            fwd.dijkstra(l.idx(), &mut heap, &mut dist);
+            rows.iter_mut().zip(&dist).for_each(|(r, &d)| r[2 * i] = d);
+            bwd.dijkstra(l.idx(), &mut heap, &mut dist);
+            rows.iter_mut().zip(&dist).for_each(|(r, &d)| r[2 * i + 1] = d);
+        }
+        Landmarks { landmarks, rows }
+    }
+
+    pub fn bytes(&self) -> usize {
+        self.rows.capacity() * std::mem::size_of::<[u32; 2 * LANDMARKS]>()
+    }
+
+    /// The `ACTIVE` landmarks that bound the cost from `s` to `t` best: a query uses only these,
+    /// so each stop it touches costs a few reads, while the table keeps a landmark behind most
+    /// targets (the usual ALT practice of choosing landmarks per query, Goldberg and Harrelson).
+    pub fn select(&self, s: StopIdx, t: StopIdx) -> Active {
+        let mut scored: Vec<(u32, u8)> = (0..self.landmarks.len()).map(|i| (self.bound_by(i, s, t), i as u8)).collect();
+        scored.sort_unstable_by(|a, b| b.cmp(a));
+        let mut active = Active { n: 0, which: [0; ACTIVE] };
+        for &(_, i) in scored.iter().take(ACTIVE) {
+            active.which[active.n] = i;
+            active.n += 1;
+        }
+        active
+    }
+
+    /// Lower bound on the cost from `s` to `t` from the active landmarks (`UNREACHABLE` when `s`
+    /// cannot reach `t`).
+    #[inline]
+    pub fn bound(&self, active: &Active, s: StopIdx, t: StopIdx) -> u32 {
+        let mut h = 0;
+        for &i in &active.which[..active.n] {
+            h = h.max(self.bound_by(i as usize, s, t));
+            if h == UNREACHABLE {
+                break;
+            }
+        }
+        h
+    }
+
+    #[inline]
+    fn bound_by(&self, i: usize, s: StopIdx, t: StopIdx) -> u32 {
+        let (Some(rs), Some(rt)) = (self.rows.get(s.idx()), self.rows.get(t.idx())) else { return 0 };
+        let mut h = 0;
+        // d(s, t) ≥ d(L, t) − d(L, s)
+        let (ls, lt) = (rs[2 * i], rt[2 * i]);
+        if lt != UNREACHABLE && ls != UNREACHABLE && lt > ls {
+            h = lt - ls;
+        }
+        // d(s, t) ≥ d(s, L) − d(t, L); s cannot reach L but t can: s cannot reach t.
+        let (sl, tl) = (rs[2 * i + 1], rt[2 * i + 1]);
+        if tl != UNREACHABLE {
+            if sl == UNREACHABLE {
+                return UNREACHABLE;
+            }
+            if sl > tl {
+                h = h.max(sl - tl);
+            }
+        }
+        h
+    }
+}
+
+/// Landmarks used by one query.
+#[derive(Debug, Clone, Copy)]
+pub struct Active {
+    n: usize,
+    which: [u8; ACTIVE],
+}
+
+/// Landmarks spread over the area: farthest-point selection on stops with departures, starting
+/// from the stop farthest from the first one (distances on an equirectangular projection, which is
+/// enough for choosing).
+fn pick_landmarks(tt: &Timetable, net: &Network) -> Vec<StopIdx> {
+    let served: Vec<usize> = (0..tt.stops.len()).filter(|&s| net.stop_first[s + 1] > net.stop_first[s]).collect();
+    if served.is_empty() {
+        return Vec::new();
+    }
+    let xy: Vec<(f64, f64)> = served
+        .iter()
+        .map(|&s| {
+            let st = &tt.stops[s];
+            (st.lon * st.lat.to_radians().cos(), st.lat)
+        })
+        .collect();
+    let d2 = |a: (f64, f64), b: (f64, f64)| (a.0 - b.0).powi(2) + (a.1 - b.1).powi(2);
+    let mut near = vec![f64::INFINITY; served.len()];
+    let mut chosen: Vec<usize> = Vec::new();
+    let mut pick = (0..served.len()).max_by(|&a, &b| d2(xy[a], xy[0]).total_cmp(&d2(xy[b], xy[0]))).unwrap_or(0);
+    while chosen.len() < LANDMARKS.min(served.len()) {
+        chosen.push(pick);
+        for (i, n) in near.iter_mut().enumerate() {
+            *n = n.min(d2(xy[i], xy[pick]));
+        }
+        pick = (0..served.len()).max_by(|&a, &b| near[a].total_cmp(&near[b])).unwrap_or(0);
+        if near[pick] == 0.0 {
+            break;
+        }
+    }
+    chosen.into_iter().map(|i| StopIdx(served[i] as u32)).collect()
+}
+
+/// Everything prepared for one walking setting on one network.
+#[derive(Debug)]
+pub struct Prepared {
+    pub key: WalkKey,
+    pub walk: WalkLinks,
+    /// Built on the first goal-directed search with this setting.
+    pub landmarks: Option<Landmarks>,
+}
