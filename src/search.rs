@@ -6,8 +6,14 @@
 //! taken off the reported cost, which ranks journeys the same way as "penalty per boarding after
 //! the first" among journeys that ride at all; a walk-only journey is compared separately.
 //!
-//! **Invariant:** a search allocates only when the graph grew since the previous one; buffers are
-//! reused and reset by generation stamps.
+//! Point-to-point searches are goal-directed (A*): a node's key is its cost plus a lower bound on
+//! the cost still to go, from the landmark tables of [`crate::bounds`], and once the sink has a
+//! label nothing with a greater key is pushed. The bound is consistent, so settled nodes keep
+//! their exact Dijkstra costs. One-to-all searches run undirected.
+//!
+//! **Invariant:** a search allocates only when the graph grew since the previous one, or on the
+//! first search with a new walking setting (its prepared links and tables); buffers are reused
+//! and reset by generation stamps.
 
 use serde::Serialize;
 
@@ -254,7 +260,7 @@ impl SearchState {
             self.heap.push(key, node);
         }
     }
-    /// Relaxes the sink of layer `base` (bound 0).
+    /// Relaxes a sink (bound 0); with `prune`, its cost then bounds every key worth pushing.
     #[inline]
     fn relax_sink(&mut self, sink: u32, cost: u32, pred: u32, prune: bool) {
         self.relax(sink, cost, 0, pred);
