@@ -488,7 +488,8 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
             let pos = local;
             let ev = net.by_stop[pos as usize] as usize;
             let s = net.stop[ev];
-            let h = cx.h_wait(cx.h_ride(st, s));
+            let hr = cx.h_ride(st, s);
+            let h = cx.h_wait(hr);
             if key > c + h {
                 continue;
             }
@@ -504,7 +505,6 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
             if f & (NO_PICKUP | LAST_OF_TRIP) == 0 && cx.event_ok(ev) {
                 let next_layer = if layers == 1 { 0 } else { layer + 1 };
                 if next_layer < layers {
-                    let hr = cx.h_ride(st, s);
                     st.relax(next_layer * per + e_count + ev as u32, c + p.transfer_penalty_s, hr, node);
                 }
             }
@@ -540,8 +540,8 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
             if net.flags[e2] & HAS_RULES != 0 {
                 let next = if layers == 1 { 0 } else { layer + 1 };
                 if next < layers {
+                    let h = cx.h_ride(st, v);
                     for (f, cost) in rule_boardings(tt, net, p, &cx, e2, at) {
-                        let h = cx.h_ride(st, v);
                         st.relax(next * per + e_count + f, cost, h, node);
                     }
                 }
