@@ -14,6 +14,7 @@ pub mod itinerary;
 pub mod network;
 pub mod radix_heap;
 pub mod search;
+pub mod sweep;
 pub mod timetable;
 
 #[cfg(not(target_arch = "wasm32"))]

@@ -69,12 +69,15 @@ pub struct Network {
     pub by_stop_dep: Vec<u32>,
     /// Trips running on the date itself (not counting the neighbouring days).
     pub trips_today: usize,
+    /// Events that leave on a ride (all but each trip's last), sorted by departure time then
+    /// event: built on the first one-to-all sweep, as only that needs it.
+    rides_by_time: std::sync::OnceLock<Vec<u32>>,
 }
 
 impl Network {
     pub fn build(tt: &Timetable, date: NaiveDate) -> Network {
         let tz = tt.feeds.first().map(|f| f.timezone).unwrap_or(chrono_tz::UTC);
-        let mut net = Network { id: crate::bounds::next_id(), date, tz, instances: Vec::new(), arr: Vec::new(), dep: Vec::new(), stop: Vec::new(), flags: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), by_stop_dep: Vec::new(), trips_today: 0 };
+        let mut net = Network { id: crate::bounds::next_id(), date, tz, instances: Vec::new(), arr: Vec::new(), dep: Vec::new(), stop: Vec::new(), flags: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), by_stop_dep: Vec::new(), trips_today: 0, rides_by_time: Default::default() };
         let days = [date - Duration::days(1), date, date + Duration::days(1)];
         // Per feed and day: offset of that service day's origin, and which services run.
         let mut runs: Vec<[bool; 3]> = vec![[false; 3]; tt.services.len()];
@@ -222,6 +225,16 @@ impl Network {
         (i < b).then_some(i)
     }
 
+    /// Events that leave on a ride, in order of departure (ties by event, so a trip's rides at
+    /// one instant keep their order along the trip).
+    pub fn rides_by_time(&self) -> &[u32] {
+        self.rides_by_time.get_or_init(|| {
+            let mut order: Vec<u32> = (0..self.events() as u32).filter(|&e| self.flags[e as usize] & LAST_OF_TRIP == 0).collect();
+            order.sort_unstable_by_key(|&e| ((self.dep[e as usize] as u64) << 32) | e as u64);
+            order
+        })
+    }
+
     /// The instance an event belongs to.
     pub fn instance_of(&self, e: u32) -> &Instance {
         let i = self.instances.partition_point(|inst| inst.first <= e) - 1;
@@ -234,9 +247,9 @@ impl Network {
         tt.trips[inst.trip.idx()].first_event as usize + inst.skip as usize + (e - inst.first) as usize
     }
 
-    /// Bytes held by the graph arrays.
+    /// Bytes held by the graph arrays (with the sweep order once built).
     pub fn bytes(&self) -> usize {
-        self.arr.capacity() * 4 + self.dep.capacity() * 4 + self.stop.capacity() * 4 + self.flags.capacity() + self.by_stop.capacity() * 4 + self.by_stop_dep.capacity() * 4 + self.stop_first.capacity() * 4 + self.instances.capacity() * std::mem::size_of::<Instance>()
+        self.arr.capacity() * 4 + self.dep.capacity() * 4 + self.stop.capacity() * 4 + self.flags.capacity() + self.by_stop.capacity() * 4 + self.by_stop_dep.capacity() * 4 + self.stop_first.capacity() * 4 + self.instances.capacity() * std::mem::size_of::<Instance>() + self.rides_by_time.get().map_or(0, |o| o.capacity() * 4)
     }
 
     /// The instant of the timeline's origin.
@@ -267,7 +280,7 @@ mod tests {
             by_stop_dep.extend(d);
             stop_first.push(by_stop_dep.len() as u32);
         }
-        Network { id: 0, date: NaiveDate::MIN, tz: chrono_tz::UTC, instances: vec![], arr: vec![], dep: vec![], stop: vec![], flags: vec![], stop_first, by_stop: vec![], by_stop_dep, trips_today: 0 }
+        Network { id: 0, date: NaiveDate::MIN, tz: chrono_tz::UTC, instances: vec![], arr: vec![], dep: vec![], stop: vec![], flags: vec![], stop_first, by_stop: vec![], by_stop_dep, trips_today: 0, rides_by_time: Default::default() }
     }
 
     proptest! {

@@ -41,7 +41,7 @@ impl StepFree {
             StepFree::Lenient => WalkProfile::StepFreeLenient,
         }
     }
-    fn event_mask(self) -> u8 {
+    pub(crate) fn event_mask(self) -> u8 {
         match self {
             StepFree::Off => 0,
             StepFree::Strict => STEP_FREE_YES,
@@ -83,6 +83,10 @@ impl Params {
             step_free_extra_transfer_s: 120,
             max_duration_s: 4 * 3600,
         }
+    }
+    /// What the prepared walking data of this setting on `net` are filed under.
+    pub(crate) fn walk_key(&self, net: &Network) -> WalkKey {
+        WalkKey { network: net.id, profile: self.step_free.walk_profile(), speed_mps: self.walk_speed_mps, max_walk_m: self.max_walk_m, weight: self.walk_weight }
     }
     pub fn transfer_s(&self) -> u32 {
         self.min_transfer_s + if self.step_free == StepFree::Off { 0 } else { self.step_free_extra_transfer_s }
@@ -135,6 +139,8 @@ pub struct SearchState {
     best: u32,
     /// Walking links and landmark tables per walking setting, most recently used last.
     prepared: Vec<Box<Prepared>>,
+    /// Buffers of the one-to-all sweep.
+    sweep: crate::sweep::SweepBuffers,
     pub settled: u64,
 }
 
@@ -206,7 +212,7 @@ impl SearchState {
 
     /// The prepared data for `key`, built when missing (links always; landmarks when `goal`).
     /// The caller hands it back with [`SearchState::give_back`].
-    fn take_prepared(&mut self, tt: &Timetable, net: &Network, key: WalkKey, goal: bool) -> Box<Prepared> {
+    pub(crate) fn take_prepared(&mut self, tt: &Timetable, net: &Network, key: WalkKey, goal: bool) -> Box<Prepared> {
         let mut prep = match self.prepared.iter().position(|p| p.key == key) {
             Some(i) => self.prepared.remove(i),
             None => Box::new(Prepared { key, walk: WalkLinks::build(tt, &key), landmarks: None }),
@@ -216,7 +222,7 @@ impl SearchState {
         }
         prep
     }
-    fn give_back(&mut self, prep: Box<Prepared>) {
+    pub(crate) fn give_back(&mut self, prep: Box<Prepared>) {
         if self.prepared.len() >= PREPARED_KEPT {
             self.prepared.remove(0);
         }
@@ -238,7 +244,14 @@ impl SearchState {
     pub fn sink(&self, layer: u32) -> u32 {
         layer * self.layer_nodes + self.layer_nodes - 1
     }
-    /// Earliest arrival per stop after a one-to-all search.
+    /// The sweep's buffers and the per-stop arrivals it fills, sized for `stops`.
+    pub(crate) fn sweep_parts(&mut self, stops: usize) -> (&mut crate::sweep::SweepBuffers, &mut [u32]) {
+        if self.stop_arrival.len() < stops {
+            self.stop_arrival.resize(stops, u32::MAX);
+        }
+        (&mut self.sweep, &mut self.stop_arrival[..stops])
+    }
+    /// Earliest arrival per stop after a one-to-all search (sweep or `run_all`).
     pub fn stop_arrivals(&self) -> &[u32] {
         &self.stop_arrival
     }
@@ -351,7 +364,7 @@ impl Ctx<'_> {
     }
     #[inline]
     fn event_ok(&self, e: usize) -> bool {
-        self.mask == 0 || self.net.flags[e] & self.mask != 0
+        event_ok(self.net, self.mask, e)
     }
 
     /// Enters the waiting chain of `s` at the first departure at or after `t`.
@@ -418,18 +431,18 @@ impl Ctx<'_> {
 /// trip- or route-specific transfer rule names: each later departure is checked against the
 /// rules (`Timetable::change_s`) and boarded directly, instead of through the shared waiting chain
 /// (which cannot remember which trip the rider came from).
-fn rule_boardings(tt: &Timetable, net: &Network, p: &Params, cx: &Ctx, e2: usize, at: u32) -> Vec<(u32, u32)> {
+pub(crate) fn rule_boardings(tt: &Timetable, net: &Network, p: &Params, horizon: u32, mask: u8, e2: usize, at: u32) -> Vec<(u32, u32)> {
     let (v, ta) = (net.stop[e2], net.arr[e2]);
     let from_trip = net.instance_of(e2 as u32).trip;
     let mut out = Vec::new();
     let Some(start) = net.first_departure(v, ta) else { return out };
     for pos in start..net.stop_first[v.idx() + 1] {
         let dep = net.by_stop_dep[pos as usize];
-        if dep > cx.horizon {
+        if dep > horizon {
             break;
         }
         let f = net.by_stop[pos as usize];
-        if f as usize == e2 || net.flags[f as usize] & (NO_PICKUP | LAST_OF_TRIP) != 0 || !cx.event_ok(f as usize) {
+        if f as usize == e2 || net.flags[f as usize] & (NO_PICKUP | LAST_OF_TRIP) != 0 || !event_ok(net, mask, f as usize) {
             continue;
         }
         let to_trip = net.instance_of(f).trip;
@@ -442,9 +455,15 @@ fn rule_boardings(tt: &Timetable, net: &Network, p: &Params, cx: &Ctx, e2: usize
     out
 }
 
+/// True when event `e` may be used under the step-free mask (0: any).
+#[inline]
+pub(crate) fn event_ok(net: &Network, mask: u8, e: usize) -> bool {
+    mask == 0 || net.flags[e] & mask != 0
+}
+
 fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params, layers: u32, goal: Goal) {
     st.reset(net, tt.stops.len(), layers);
-    let key = WalkKey { network: net.id, profile: p.step_free.walk_profile(), speed_mps: p.walk_speed_mps, max_walk_m: p.max_walk_m, weight: p.walk_weight };
+    let key = p.walk_key(net);
     let directed = goal == Goal::Target && !ends.targets.is_empty();
     let prep = st.take_prepared(tt, net, key, directed);
     search_loop(tt, net, st, &prep, ends, depart_s, p, layers, goal);
@@ -541,7 +560,7 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
                 let next = if layers == 1 { 0 } else { layer + 1 };
                 if next < layers {
                     let h = cx.h_ride(st, v);
-                    for (f, cost) in rule_boardings(tt, net, p, &cx, e2, at) {
+                    for (f, cost) in rule_boardings(tt, net, p, cx.horizon, cx.mask, e2, at) {
                         st.relax(next * per + e_count + f, cost, h, node);
                     }
                 }
@@ -742,13 +761,7 @@ pub fn pareto(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoi
     out
 }
 
-/// Earliest arrival at every stop from the origins leaving at `depart_s` (u32::MAX: not reached
-/// within the time limit). Costs of all graph nodes stay readable in `st` afterwards.
-pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, origins: &[StopIdx], depart_s: u32, p: &Params) -> &'s [u32] {
-    let ends = Endpoints { origins: origins.to_vec(), targets: vec![] };
-    run(tt, net, st, &ends, depart_s, p, 1, Goal::All);
-    &st.stop_arrival[..tt.stops.len()]
-}
+pub use crate::sweep::one_to_all;
 
 /// Runs a target search and keeps all state, for tests that compare node costs.
 pub fn run_to_target(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) {
@@ -800,8 +813,7 @@ pub fn edges_of(tt: &Timetable, net: &Network, ends: &Endpoints, p: &Params, nod
                     out.push((per - 1, ta - t));
                 }
                 if net.flags[e2] & HAS_RULES != 0 {
-                    let cx = Ctx { net, p, mask, horizon: u32::MAX, goal: Goal::All, e: e_count, landmarks: None, targets: &[] };
-                    for (f, cost) in rule_boardings(tt, net, p, &cx, e2, ta - t) {
+                    for (f, cost) in rule_boardings(tt, net, p, u32::MAX, mask, e2, ta - t) {
                         out.push((e_count + f, cost));
                     }
                 } else if let Some(mt) = tt.stop_transfer_s(v, p.transfer_s()) {

@@ -522,3 +522,42 @@ fn pickup_type_and_drop_off_type_1_are_respected() {
     // Riding through M is unaffected.
     assert_eq!(first(&mut engine, "O", "D"), ("P1".into(), "08:00".into(), "08:20".into()));
 }
+
+// ---------------------------------------------------------------------------------------------
+// Changes at the same instant
+
+/// A ride of no duration into a timed transfer: the connecting trip leaves the very second the
+/// first one arrives, and is listed first, so a sweep in order of departure reads it before the
+/// ride that reaches it.
+fn same_instant_feed() -> Feed {
+    Feed::new("Etc/GMT-1")
+        .one_route()
+        .file("stops.txt", "stop_id,stop_name,stop_lat,stop_lon
+            A,Alder Quay,52.00,13.00
+            B,Birch Row,52.05,13.00
+            C,Cedar Gate,52.10,13.00")
+        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+            MON,1,0,0,0,0,0,0,20260601,20260630")
+        .file("trips.txt", "route_id,service_id,trip_id
+            R,MON,ONWARD
+            R,MON,FEEDER")
+        .file("stop_times.txt", "trip_id,arrival_time,departure_time,stop_id,stop_sequence
+            ONWARD,8:00:00,8:00:00,B,1
+            ONWARD,8:10:00,8:10:00,C,2
+            FEEDER,8:00:00,8:00:00,A,1
+            FEEDER,8:00:00,8:00:00,B,2")
+        .file("transfers.txt", "from_stop_id,to_stop_id,transfer_type\nB,B,1")
+}
+
+#[test]
+fn a_timed_transfer_at_the_same_instant_is_reached_by_the_one_to_all_sweep() {
+    let mut engine = same_instant_feed().load();
+    // GTFS Schedule reference, transfers.txt transfer_type 1: "Timed transfer point between two
+    // routes. The departing vehicle is expected to wait for the arriving one and leave sufficient
+    // time for a rider to transfer between routes." So C is reached at 08:10 via FEEDER, ONWARD.
+    let r = plan(&mut engine, &query("A", "C", "2026-06-01", "07:55"), StepFree::Off);
+    assert_eq!(r.itineraries.first().map(|it| it.arrive.as_str()), Some("08:10"), "{r:?}");
+    let reach = engine.reach("A", "2026-06-01", "07:55", StepFree::Off, 60).expect("reach");
+    let at = |id: &str| reach.iter().find(|x| x.stop_id == id).map(|x| x.minutes);
+    assert_eq!((at("B"), at("C")), (Some(5), Some(15)), "{reach:?}");
+}

@@ -15,9 +15,9 @@ mod support;
 use chrono::NaiveDate;
 use petgraph::graph::{Graph, NodeIndex};
 use support::{hms, Feed};
-use timeweave::network::{Network, LAST_OF_TRIP};
+use timeweave::network::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
 use timeweave::search::{self, decode, node_time, Endpoints, Node, Params, SearchState, StepFree};
-use timeweave::timetable::{StopIdx, Timetable};
+use timeweave::timetable::{StopIdx, Timetable, NO_DROP_OFF};
 use timeweave::Engine;
 
 /// SplitMix64: a small deterministic generator, so the feed is the same on every run.
@@ -85,12 +85,14 @@ fn random_feed(seed: u64) -> Feed {
         .file("trips.txt", &trips)
         .file("stop_times.txt", &times)
         .file("frequencies.txt", "trip_id,start_time,end_time,headway_secs,exact_times\nFREQ,06:00:00,09:00:00,600,1")
-        .file("transfers.txt", "from_stop_id,to_stop_id,transfer_type,min_transfer_time
-            S3,S3,2,300
-            S5,S5,1,
-            S7,S7,3,
-            S0,S1,2,400
-            S2,S3,3,")
+        .file("transfers.txt", "from_stop_id,to_stop_id,transfer_type,min_transfer_time,from_route_id,from_trip_id,to_trip_id
+            S3,S3,2,300,,,
+            S5,S5,1,,,,
+            S7,S7,3,,,,
+            S0,S1,2,400,,,
+            S2,S3,3,,,,
+            S4,S4,2,0,R,,
+            S9,S9,3,,,T3,T8")
 }
 
 /// Position (waiting node) of the first departure at `s` at or after `t`, by a plain scan.
@@ -195,6 +197,51 @@ fn compare_to_targets(tt: &Timetable, net: &Network, origins: &[StopIdx], depart
     reached
 }
 
+/// The one-to-all sweep's earliest arrival per stop against arrivals read off petgraph's
+/// reachable nodes: at the origins at the query time, after the walks from them, and at every
+/// alighting (the event after a reached ride node, where drop-off and the step-free mask allow,
+/// within the time limit), directly and after each walking link from there. Returns how many
+/// stops were reached.
+fn compare_sweep(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u32, p: &Params) -> usize {
+    let ends = Endpoints { origins: origins.to_vec(), targets: vec![] };
+    let (g, source) = oracle_graph(tt, net, &ends, depart_s, p);
+    // petgraph::algo::dijkstra as an independent reference implementation of reachability.
+    let dist = petgraph::algo::dijkstra(&g, source, None, |e| *e.weight());
+    let horizon = depart_s + p.max_duration_s;
+    let walk = tt.walk(p.step_free.walk_profile());
+    let walks = |s: StopIdx| walk.from(s).iter().filter(|f| f.length_m as f64 <= p.max_walk_m).map(|f| (f.to, f.duration_s(p.walk_speed_mps)));
+    let mut oracle = vec![u32::MAX; tt.stops.len()];
+    let mut arrive = |s: StopIdx, t: u32| oracle[s.idx()] = oracle[s.idx()].min(t);
+    for &o in origins {
+        arrive(o, depart_s);
+        walks(o).for_each(|(to, d)| arrive(to, depart_s + d));
+    }
+    let step_free_ok = |e: usize| match p.step_free {
+        StepFree::Off => true,
+        StepFree::Strict => net.flags[e] & STEP_FREE_YES != 0,
+        StepFree::Lenient => net.flags[e] & (STEP_FREE_YES | STEP_FREE_UNKNOWN) != 0,
+    };
+    for e in 0..net.events() {
+        let reached = dist.contains_key(&NodeIndex::new(net.events() + e));
+        let e2 = e + 1;
+        if !reached || net.flags[e] & LAST_OF_TRIP != 0 || net.flags[e2] & NO_DROP_OFF != 0 || !step_free_ok(e2) || net.arr[e2] > horizon {
+            continue;
+        }
+        let (v, ta) = (net.stop[e2], net.arr[e2]);
+        arrive(v, ta);
+        walks(v).for_each(|(to, d)| arrive(to, ta + d));
+    }
+    let mut st = SearchState::new();
+    let swept = search::one_to_all(tt, net, &mut st, origins, depart_s, p).to_vec();
+    for s in 0..tt.stops.len() {
+        assert_eq!(swept[s], oracle[s], "earliest arrival at {}, query {depart_s} from {origins:?}, {p:?}", tt.stops[s].id);
+    }
+    // And Dijkstra's own one-to-all gives the same arrivals.
+    search::run_all(tt, net, &mut st, &ends, depart_s, p);
+    assert_eq!(&st.stop_arrivals()[..tt.stops.len()], &swept[..], "run_all's arrivals");
+    oracle.iter().filter(|&&t| t != u32::MAX).count()
+}
+
 fn stop(tt: &Timetable, id: &str) -> StopIdx {
     StopIdx(tt.stops.iter().position(|s| s.id == id).expect("stop") as u32)
 }
@@ -245,6 +292,30 @@ fn goal_directed_sink_costs_equal_petgraph_dijkstra() {
         let origins: Vec<StopIdx> = origins.iter().map(|id| stop(tt, id)).collect();
         let reached = compare_to_targets(tt, &net, &origins, depart_s, &p);
         assert!(reached > 5, "only {reached} targets reached from {origins:?} at {depart_s}; the comparison would be weak");
+    }
+}
+
+#[test]
+fn one_to_all_sweep_arrivals_equal_petgraph_reachability() {
+    let engine: Engine = random_feed(0x7157_2026).load();
+    let tt = &engine.tt;
+    let net = Network::build(tt, NaiveDate::from_ymd_opt(2026, 6, 10).expect("date"));
+    assert!(net.flags.iter().any(|f| f & HAS_RULES != 0), "the feed has route-specific transfer rules");
+    let short = Params { max_duration_s: 1800, ..Params::default() };
+    let cases: Vec<(Vec<&str>, u32, Params)> = vec![
+        (vec!["S0"], 7 * 3600, Params::default()),
+        (vec!["S4"], 6 * 3600 + 1800, Params { max_walk_m: 500.0, walk_speed_mps: 0.9, ..Params::default() }),
+        (vec!["S10"], 7 * 3600 + 900, Params::new(StepFree::Strict)),
+        (vec!["S12"], 1200, Params { max_duration_s: 8 * 3600, ..Params::new(StepFree::Lenient) }),
+        (vec!["S5", "S9"], 8 * 3600 + 17, short),
+        // No walking: changes happen only at a stop, where the route rule at S4 decides.
+        (vec!["S0"], 7 * 3600, Params { max_walk_m: 0.0, ..Params::default() }),
+        (vec!["S13"], 9 * 3600, Params { max_walk_m: 0.0, ..Params::default() }),
+    ];
+    for (origins, depart_s, p) in cases {
+        let origins: Vec<StopIdx> = origins.iter().map(|id| stop(tt, id)).collect();
+        let reached = compare_sweep(tt, &net, &origins, depart_s, &p);
+        assert!(reached > 5, "only {reached} stops reached from {origins:?} at {depart_s}; the comparison would be weak");
     }
 }
 

@@ -1,0 +1,148 @@
+//! One-to-all earliest arrival by a sweep of the time-expanded graph in time order.
+//!
+//! Which nodes of the graph can be reached from the origin does not depend on costs, and a
+//! stop's earliest arrival is the earliest time of any reachable alighting or walk there, so
+//! a one-to-all query needs reachability, not Dijkstra. Every edge goes forward in time, so the
+//! graph is a DAG and visiting the rides in order of departure time visits it in topological
+//! order (ties resolved below). The waiting chain of a stop is reachable from its earliest
+//! entry onwards, so one time per stop stands for all its waiting nodes, and one bit per event
+//! for its ride node. Each ride is read once, near the rides of the same moment, instead of
+//! being pushed through a priority queue.
+//!
+//! Ties: a ride of duration 0 followed by a change of 0 s (a timed transfer, or a walk of 0 s)
+//! reaches rides that leave at the same instant, possibly earlier in the order. When that
+//! happens, the rides of that instant are read again until nothing changes.
+//!
+//! The result is the one Dijkstra on the same graph gives (`search::run_all`); a test checks
+//! it against that on random feeds.
+
+use crate::network::{Network, HAS_RULES, LAST_OF_TRIP};
+use crate::search::{event_ok, rule_boardings, Params, SearchState};
+use crate::timetable::{StopIdx, Timetable, NO_DROP_OFF, NO_PICKUP};
+
+/// Per stop during a sweep.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct SweepStop {
+    /// Earliest time the waiting chain can be entered.
+    entry: u32,
+    /// Earliest alighting so far: a later one would walk the same links later.
+    alight: u32,
+}
+
+/// Buffers of the sweep, reused across queries.
+#[derive(Debug, Default)]
+pub(crate) struct SweepBuffers {
+    stops: Vec<SweepStop>,
+    /// One bit per event: its ride node is reachable.
+    on_board: Vec<u64>,
+}
+
+const FRESH: SweepStop = SweepStop { entry: u32::MAX, alight: u32::MAX };
+
+/// Earliest arrival at every stop from the origins leaving at `depart_s`, within
+/// `p.max_duration_s` (u32::MAX: not reached).
+pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, origins: &[StopIdx], depart_s: u32, p: &Params) -> &'s [u32] {
+    let prep = st.take_prepared(tt, net, p.walk_key(net), false);
+    let walk = &prep.walk;
+    let n = tt.stops.len();
+    let (buf, arrival) = st.sweep_parts(n);
+    buf.stops.clear();
+    buf.stops.resize(n, FRESH);
+    buf.on_board.clear();
+    buf.on_board.resize(net.events().div_ceil(64), 0);
+    arrival.iter_mut().for_each(|a| *a = u32::MAX);
+    let SweepBuffers { stops, on_board } = buf;
+
+    let horizon = depart_s.saturating_add(p.max_duration_s);
+    let mask = p.step_free.event_mask();
+    let change_s = p.transfer_s();
+    for &o in origins {
+        arrival[o.idx()] = arrival[o.idx()].min(depart_s);
+        stops[o.idx()].entry = stops[o.idx()].entry.min(depart_s);
+        for f in walk.from(o) {
+            let t = depart_s + f.walk_s;
+            arrival[f.to.idx()] = arrival[f.to.idx()].min(t);
+            stops[f.to.idx()].entry = stops[f.to.idx()].entry.min(t);
+        }
+    }
+
+    let order = net.rides_by_time();
+    let start = order.partition_point(|&e| net.dep[e as usize] < depart_s);
+    // First ride of the instant being read, that instant, and whether a change made during it
+    // lands on the same instant (so its rides must be read again).
+    let (mut group, mut group_t, mut again) = (start, u32::MAX, false);
+    let mut i = start;
+    loop {
+        let e = match order.get(i) {
+            Some(&e) if net.dep[e as usize] <= horizon => e as usize,
+            _ if again => {
+                again = false;
+                i = group;
+                continue;
+            }
+            _ => break,
+        };
+        let t = net.dep[e];
+        if t != group_t {
+            if again {
+                again = false;
+                i = group;
+                continue;
+            }
+            (group, group_t) = (i, t);
+        }
+        i += 1;
+        let bit = 1u64 << (e % 64);
+        if on_board[e / 64] & bit == 0 {
+            let s = net.stop[e];
+            if net.flags[e] & NO_PICKUP != 0 || !event_ok(net, mask, e) || t < stops[s.idx()].entry {
+                continue;
+            }
+            on_board[e / 64] |= bit;
+        }
+        // On board at e: stay on, and alight at the next stop.
+        let e2 = e + 1;
+        if net.flags[e2] & LAST_OF_TRIP == 0 && net.dep[e2] <= horizon {
+            on_board[e2 / 64] |= 1u64 << (e2 % 64);
+        }
+        let ta = net.arr[e2];
+        if net.flags[e2] & NO_DROP_OFF != 0 || !event_ok(net, mask, e2) || ta > horizon {
+            continue;
+        }
+        let v = net.stop[e2];
+        arrival[v.idx()] = arrival[v.idx()].min(ta);
+        if net.flags[e2] & HAS_RULES != 0 {
+            for (f, _) in rule_boardings(tt, net, p, horizon, mask, e2, 0) {
+                let f = f as usize;
+                if on_board[f / 64] & (1u64 << (f % 64)) == 0 {
+                    on_board[f / 64] |= 1u64 << (f % 64);
+                    again |= net.dep[f] == t;
+                }
+            }
+        } else if let Some(mt) = tt.stop_transfer_s(v, change_s) {
+            again |= lower_entry(stops, v, ta + mt, t);
+        }
+        if ta >= stops[v.idx()].alight {
+            continue;
+        }
+        stops[v.idx()].alight = ta;
+        for f in walk.from(v) {
+            let at = ta + f.walk_s;
+            arrival[f.to.idx()] = arrival[f.to.idx()].min(at);
+            again |= lower_entry(stops, f.to, at, t);
+        }
+    }
+    st.give_back(prep);
+    &st.stop_arrivals()[..n]
+}
+
+/// Lowers the entry time of `s` to `at`; true when that lands on the instant `now` being read.
+#[inline]
+fn lower_entry(stops: &mut [SweepStop], s: StopIdx, at: u32, now: u32) -> bool {
+    let m = &mut stops[s.idx()];
+    if at < m.entry {
+        m.entry = at;
+        return at == now;
+    }
+    false
+}
