@@ -411,8 +411,31 @@ impl Engine {
         NoJourney { reason: "no_connection", message: "No connection between these stops on this date after this time.".into(), blocking: vec![] }
     }
 
-    /// Earliest arrival at every stop within `limit_min` minutes ("what can be reached").
+    /// Earliest arrival at every stop within `limit_min` minutes ("what can be reached"), as
+    /// minutes after the departure per stop index (`u32::MAX`: not reached), in the order of
+    /// [`Engine::stop_ids`]: the compact form for drawing many stops.
+    pub fn reach_minutes(&mut self, from: &str, date: &str, time: &str, step_free: StepFree, limit_min: u32) -> Result<Vec<u32>, QueryError> {
+        let depart_s = self.reach_search(from, date, time, step_free, limit_min)?;
+        Ok(self.state.stop_arrivals()[..self.tt.stops.len()].iter().map(|&a| if a == u32::MAX { a } else { (a - depart_s).div_ceil(60) }).collect())
+    }
+
+    /// The same as a list of the platforms reached, earliest first.
     pub fn reach(&mut self, from: &str, date: &str, time: &str, step_free: StepFree, limit_min: u32) -> Result<Vec<Reach>, QueryError> {
+        let depart_s = self.reach_search(from, date, time, step_free, limit_min)?;
+        let arr = &self.state.stop_arrivals()[..self.tt.stops.len()];
+        let mut out: Vec<Reach> = arr
+            .iter()
+            .enumerate()
+            .filter(|(i, &a)| a != u32::MAX && self.tt.stops[*i].kind == StopKind::Platform)
+            .map(|(i, &a)| Reach { stop_id: self.tt.stops[i].id.clone(), name: self.tt.stops[i].name.clone(), arrive_s: a, minutes: (a - depart_s).div_ceil(60) })
+            .collect();
+        out.sort_by_key(|r| r.arrive_s);
+        Ok(out)
+    }
+
+    /// Runs the one-to-all sweep of a reach query; the arrivals stay in the search state.
+    /// Returns the departure on the network's timeline.
+    fn reach_search(&mut self, from: &str, date: &str, time: &str, step_free: StepFree, limit_min: u32) -> Result<u32, QueryError> {
         let date = parse_date(date).ok_or_else(|| QueryError::BadDate(date.into()))?;
         let (h, m) = parse_clock(time).ok_or_else(|| QueryError::BadTime(time.into()))?;
         let from = self.resolve(from)?;
@@ -423,15 +446,13 @@ impl Engine {
         p.max_duration_s = limit_min * 60;
         self.network(date);
         let net = self.net.as_ref().expect("network built");
-        let arr = search::one_to_all(&self.tt, net, &mut self.state, &origins, depart_s, &p);
-        let mut out: Vec<Reach> = arr
-            .iter()
-            .enumerate()
-            .filter(|(i, &a)| a != u32::MAX && self.tt.stops[*i].kind == StopKind::Platform)
-            .map(|(i, &a)| Reach { stop_id: self.tt.stops[i].id.clone(), name: self.tt.stops[i].name.clone(), arrive_s: a, minutes: (a - depart_s).div_ceil(60) })
-            .collect();
-        out.sort_by_key(|r| r.arrive_s);
-        Ok(out)
+        search::one_to_all(&self.tt, net, &mut self.state, &origins, depart_s, &p);
+        Ok(depart_s)
+    }
+
+    /// Stop ids in index order (the order of [`Engine::reach_minutes`]).
+    pub fn stop_ids(&self) -> Vec<String> {
+        self.tt.stops.iter().map(|s| s.id.clone()).collect()
     }
 
     /// Stops and lines for a schematic drawing.

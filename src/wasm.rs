@@ -53,6 +53,19 @@ struct QueryFailure {
     detail: crate::error::QueryError,
 }
 
+/// A failed query as the JS error value: its message and its typed detail.
+fn failure(e: crate::error::QueryError) -> JsValue {
+    to_js(&QueryFailure { message: e.to_string(), detail: e }).unwrap_or_else(|e| e)
+}
+
+fn step_free_of(strict: bool) -> crate::search::StepFree {
+    if strict {
+        crate::search::StepFree::Strict
+    } else {
+        crate::search::StepFree::Off
+    }
+}
+
 #[wasm_bindgen]
 impl Engine {
     #[wasm_bindgen(constructor)]
@@ -88,18 +101,21 @@ impl Engine {
     /// bad date); "no journey" is a normal result.
     pub fn plan(&mut self, query: JsValue) -> Result<JsValue, JsValue> {
         let q: PlanQuery = serde_wasm_bindgen::from_value(query).map_err(|e| JsValue::from_str(&format!("bad query: {e}")))?;
-        match self.core.plan(&q) {
-            Ok(r) => to_js(&r),
-            Err(e) => Err(to_js(&QueryFailure { message: e.to_string(), detail: e })?),
-        }
+        self.core.plan(&q).map_err(failure).and_then(|r| to_js(&r))
     }
 
     pub fn reach(&mut self, from: &str, date: &str, time: &str, step_free: bool, minutes: u32) -> Result<JsValue, JsValue> {
-        let sf = if step_free { crate::search::StepFree::Strict } else { crate::search::StepFree::Off };
-        match self.core.reach(from, date, time, sf, minutes) {
-            Ok(r) => to_js(&r),
-            Err(e) => Err(to_js(&QueryFailure { message: e.to_string(), detail: e })?),
-        }
+        self.core.reach(from, date, time, step_free_of(step_free), minutes).map_err(failure).and_then(|r| to_js(&r))
+    }
+
+    /// Minutes to every stop (index order of `stop_ids`; 4294967295: not reached), as a
+    /// Uint32Array: the one-to-all answer without building an object per stop.
+    pub fn reach_minutes(&mut self, from: &str, date: &str, time: &str, step_free: bool, minutes: u32) -> Result<Vec<u32>, JsValue> {
+        self.core.reach_minutes(from, date, time, step_free_of(step_free), minutes).map_err(failure)
+    }
+
+    pub fn stop_ids(&self) -> Result<JsValue, JsValue> {
+        to_js(&self.core.stop_ids())
     }
 
     pub fn sketch(&self) -> Result<JsValue, JsValue> {

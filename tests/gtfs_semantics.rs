@@ -560,4 +560,9 @@ fn a_timed_transfer_at_the_same_instant_is_reached_by_the_one_to_all_sweep() {
     let reach = engine.reach("A", "2026-06-01", "07:55", StepFree::Off, 60).expect("reach");
     let at = |id: &str| reach.iter().find(|x| x.stop_id == id).map(|x| x.minutes);
     assert_eq!((at("B"), at("C")), (Some(5), Some(15)), "{reach:?}");
+    // The compact form gives the same minutes, per stop in the order of `stop_ids`.
+    let minutes = engine.reach_minutes("A", "2026-06-01", "07:55", StepFree::Off, 60).expect("reach_minutes");
+    let ids = engine.stop_ids();
+    let compact = |id: &str| ids.iter().position(|s| s == id).map(|i| minutes[i]);
+    assert_eq!((compact("A"), compact("B"), compact("C")), (Some(0), Some(5), Some(15)));
 }

@@ -18,7 +18,8 @@
 //
 // Not a `*.test.mjs` file: the test command does not run it. Run: node tests/browser/bench/bench.mjs
 // Environment: TIMEWEAVE_BENCH_FEED (default bench-out/metro-1.zip), TIMEWEAVE_BENCH_QUERIES
-// (default 1000), TIMEWEAVE_BENCH_DATE (default 2026-12-02), TIMEWEAVE_BIN.
+// (default 1000), TIMEWEAVE_BENCH_DATE (default 2026-12-02), TIMEWEAVE_BENCH_KINDS (comma-separated
+// subset of plan1,plan3,strict,reach,reach_minutes; default all), TIMEWEAVE_BIN.
 
 import { spawn, execFileSync } from 'node:child_process';
 import { createServer } from 'node:net';
@@ -32,6 +33,7 @@ const N = Math.max(1, Number(process.env.TIMEWEAVE_BENCH_QUERIES || 1000));
 const DATE = process.env.TIMEWEAVE_BENCH_DATE || '2026-12-02';
 const OUT_DIR = path.join(REPO, 'bench-out');
 const LIMIT_MIN = 240;
+const KINDS = (process.env.TIMEWEAVE_BENCH_KINDS || 'plan1,plan3,strict,reach,reach_minutes').split(',');
 
 // ------------------------------------------------------------------ server and processes
 
@@ -300,8 +302,9 @@ async function main() {
       { key: 'plan1', label: '`plan` standard, options 1', call: 'plan', q: { options: 1 } },
       { key: 'plan3', label: '`plan` standard, options 3', call: 'plan', q: { options: 3 } },
       { key: 'strict', label: '`plan` step-free strict, options 1 (runs a standard search too, for step_free_extra_s)', call: 'plan', q: { options: 1, step_free: 'strict' } },
-      { key: 'reach', label: `\`reach\` one-to-all, ${LIMIT_MIN} min (returns every platform reached)`, call: 'reach' },
-    ];
+      { key: 'reach', label: `\`reach\` one-to-all, ${LIMIT_MIN} min (returns a list of every platform reached)`, call: 'reach' },
+      { key: 'reach_minutes', label: `\`reach_minutes\` one-to-all, ${LIMIT_MIN} min (returns minutes per stop as a Uint32Array)`, call: 'reach_minutes' },
+    ].filter((k) => KINDS.includes(k.key));
     const querySampler = sampler(250);
     result.kinds = [];
     for (const kind of kinds) {
@@ -319,14 +322,16 @@ async function main() {
           try {
             out = kind.call === 'plan'
               ? engine.plan({ from: q.from, to: q.to, date, time: q.time, ...kind.q })
-              : engine.reach(q.from, date, q.time, false, limit);
+              : engine[kind.call](q.from, date, q.time, false, limit);
           } catch (e) {
             failed++;
             firstError ??= `${q.from} → ${q.to} at ${q.time}: ${e && e.message ? e.message : JSON.stringify(e)}`;
           }
           times.push(performance.now() - t);
           if (out) {
-            const n = kind.call === 'plan' ? out.itineraries.length : out.length;
+            const n = kind.call === 'plan' ? out.itineraries.length
+              : kind.call === 'reach' ? out.length
+              : out.reduce((k, m) => k + (m <= limit), 0);
             items += n;
             answered += n > 0 ? 1 : 0;
           }
@@ -379,11 +384,12 @@ function table(r) {
   lines.push('', '**`plan` times include resolving the stop ids, itinerary building and serialisation to JS values** (serde-wasm-bindgen), not only the search; `reach` includes building and serialising the list of every platform reached.', '');
   lines.push('| what | median | p95 | answered | target (metro median) | |');
   lines.push('|---|---|---|---|---|---|');
-  const row = (x, target, limit) => lines.push(`| ${x.label} | ${fmtMs(x.median)} ms | ${fmtMs(x.p95)} ms | ${x.answered}/${r.queries}${x.failed ? ` (${x.failed} threw)` : ''} | ${target} | ${limit == null ? '' : x.median <= limit ? 'met' : 'missed'} |`);
+  const row = (x, target, limit) => x && lines.push(`| ${x.label} | ${fmtMs(x.median)} ms | ${fmtMs(x.p95)} ms | ${x.answered}/${r.queries}${x.failed ? ` (${x.failed} threw)` : ''} | ${target} | ${limit == null ? '' : x.median <= limit ? 'met' : 'missed'} |`);
   row(k.plan1, 'earliest arrival with penalty ≤ 6 ms', 6);
   row(k.plan3, 'next 3 ≤ 10 ms', 10);
   row(k.strict, '—', null);
   row(k.reach, 'one-to-all ≤ 30 ms', 30);
+  row(k.reach_minutes, 'one-to-all ≤ 30 ms', 30);
   lines.push('');
   lines.push('| zip → routable | figure | target | |');
   lines.push('|---|---|---|---|');
