@@ -239,7 +239,7 @@ impl Csa {
                 if net.flags[e + 1] & NO_DROP_OFF == 0 {
                     ok |= CAN_ALIGHT;
                 }
-                conns.push(Conn { dep: net.dep[e], arr: net.arr[e + 1], from: net.stop[e].0, to: net.stop[e + 1].0, trip: i as u32, ok });
+                conns.push(Conn { dep: net.dep[e], arr: net.arr(e + 1), from: net.stop[e].0, to: net.stop[e + 1].0, trip: i as u32, ok });
             }
         }
         // Stable, ties by arrival: hops were pushed in trip order, so a trip's zero-length hops
@@ -386,7 +386,7 @@ impl PgGraph {
                 // walking link away, is a target: here every stop has its own arrival node.
                 let (e, e2) = (e as usize, e as usize + 1);
                 if net.flags[e2] & NO_DROP_OFF == 0 {
-                    let ride = net.arr[e2] - net.dep[e];
+                    let ride = net.arr(e2) - net.dep[e];
                     let v = net.stop[e2];
                     row.push((arrival_base + v.0, ride));
                     for f in walk.from(v) {

@@ -169,7 +169,7 @@ impl Landmarks {
                     continue;
                 }
                 let v = net.stop[e + 1].0;
-                let w = net.arr[e + 1].min(net.dep[e + 1]).saturating_sub(net.dep[e]);
+                let w = net.arr(e + 1).saturating_sub(net.dep[e]);
                 match next.iter_mut().find(|x| x.0 == v) {
                     Some(x) => x.1 = x.1.min(w),
                     None => next.push((v, w)),

@@ -233,9 +233,9 @@ impl Builder<'_> {
             status.add(a, why);
         }
         let intermediate_stops = (board as usize + 1..alight)
-            .map(|e| StopCall { stop_id: tt.stop(net.stop[e]).id.clone(), name: tt.stop(net.stop[e]).name.clone(), arrive_s: net.arr[e], depart_s: net.dep[e], arrive: self.clock(net.arr[e]), depart: self.clock(net.dep[e]) })
+            .map(|e| StopCall { stop_id: tt.stop(net.stop[e]).id.clone(), name: tt.stop(net.stop[e]).name.clone(), arrive_s: net.arr(e), depart_s: net.dep[e], arrive: self.clock(net.arr(e)), depart: self.clock(net.dep[e]) })
             .collect();
-        let (d, a) = (net.dep[board as usize], net.arr[alight]);
+        let (d, a) = (net.dep[board as usize], net.arr(alight));
         Leg {
             kind: LegKind::Ride,
             from: self.place(from),

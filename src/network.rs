@@ -56,8 +56,8 @@ pub struct Network {
     pub date: NaiveDate,
     pub tz: Tz,
     pub instances: Vec<Instance>,
-    /// Per network event (struct of arrays).
-    pub arr: Vec<u32>,
+    /// Per network event (struct of arrays). The arrival is `dep − dwell` (see [`Network::arr`]).
+    pub dwell: Vec<u16>,
     pub dep: Vec<u32>,
     pub stop: Vec<StopIdx>,
     pub flags: Vec<u8>,
@@ -77,7 +77,7 @@ pub struct Network {
 impl Network {
     pub fn build(tt: &Timetable, date: NaiveDate) -> Network {
         let tz = tt.feeds.first().map(|f| f.timezone).unwrap_or(chrono_tz::UTC);
-        let mut net = Network { id: crate::bounds::next_id(), date, tz, instances: Vec::new(), arr: Vec::new(), dep: Vec::new(), stop: Vec::new(), flags: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), by_stop_dep: Vec::new(), trips_today: 0, rides_by_time: Default::default() };
+        let mut net = Network { id: crate::bounds::next_id(), date, tz, instances: Vec::new(), dwell: Vec::new(), dep: Vec::new(), stop: Vec::new(), flags: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), by_stop_dep: Vec::new(), trips_today: 0, rides_by_time: Default::default() };
         let days = [date - Duration::days(1), date, date + Duration::days(1)];
         // Per feed and day: offset of that service day's origin, and which services run.
         let mut runs: Vec<[bool; 3]> = vec![[false; 3]; tt.services.len()];
@@ -112,12 +112,14 @@ impl Network {
                 if ev.len() - skip < 2 {
                     continue;
                 }
-                let first = net.arr.len() as u32;
+                let first = net.dep.len() as u32;
                 net.instances.push(Instance { trip: TripIdx(ti as u32), offset_s: off as i32, first, skip: skip as u32 });
                 let stops_access = |e: usize| tt.stops[tt.ev_stop[e].idx()].wheelchair;
                 for e in ev.start + skip..ev.end {
-                    net.arr.push((tt.ev_arr[e] as i64 + off).max(0) as u32);
-                    net.dep.push((tt.ev_dep[e] as i64 + off) as u32);
+                    let dep = (tt.ev_dep[e] as i64 + off) as u32;
+                    let arr = (tt.ev_arr[e] as i64 + off).max(0) as u32;
+                    net.dwell.push(dep.saturating_sub(arr).min(u16::MAX as u32) as u16);
+                    net.dep.push(dep);
                     net.stop.push(tt.ev_stop[e]);
                     let mut f = tt.ev_flags[e] & (NO_PICKUP | NO_DROP_OFF);
                     if e + 1 == ev.end {
@@ -153,13 +155,19 @@ impl Network {
         }
         net.by_stop_dep = by_stop.iter().map(|&e| net.dep[e as usize]).collect();
         net.by_stop = by_stop;
-        for v in [&mut net.arr, &mut net.dep] {
-            v.shrink_to_fit();
-        }
+        net.dwell.shrink_to_fit();
+        net.dep.shrink_to_fit();
         net.stop.shrink_to_fit();
         net.flags.shrink_to_fit();
         net.instances.shrink_to_fit();
         net
+    }
+
+    /// Arrival time of event `e`. A dwell longer than 65,535 s (18 h 12 min) is cut at the
+    /// arrival end: the rider is taken to arrive that long before the departure.
+    #[inline]
+    pub fn arr(&self, e: usize) -> u32 {
+        self.dep[e] - self.dwell[e] as u32
     }
 
     pub fn events(&self) -> usize {
@@ -249,7 +257,7 @@ impl Network {
 
     /// Bytes held by the graph arrays (with the sweep order once built).
     pub fn bytes(&self) -> usize {
-        self.arr.capacity() * 4 + self.dep.capacity() * 4 + self.stop.capacity() * 4 + self.flags.capacity() + self.by_stop.capacity() * 4 + self.by_stop_dep.capacity() * 4 + self.stop_first.capacity() * 4 + self.instances.capacity() * std::mem::size_of::<Instance>() + self.rides_by_time.get().map_or(0, |o| o.capacity() * 4)
+        self.dwell.capacity() * 2 + self.dep.capacity() * 4 + self.stop.capacity() * 4 + self.flags.capacity() + self.by_stop.capacity() * 4 + self.by_stop_dep.capacity() * 4 + self.stop_first.capacity() * 4 + self.instances.capacity() * std::mem::size_of::<Instance>() + self.rides_by_time.get().map_or(0, |o| o.capacity() * 4)
     }
 
     /// The instant of the timeline's origin.
@@ -280,7 +288,7 @@ mod tests {
             by_stop_dep.extend(d);
             stop_first.push(by_stop_dep.len() as u32);
         }
-        Network { id: 0, date: NaiveDate::MIN, tz: chrono_tz::UTC, instances: vec![], arr: vec![], dep: vec![], stop: vec![], flags: vec![], stop_first, by_stop: vec![], by_stop_dep, trips_today: 0, rides_by_time: Default::default() }
+        Network { id: 0, date: NaiveDate::MIN, tz: chrono_tz::UTC, instances: vec![], dwell: vec![], dep: vec![], stop: vec![], flags: vec![], stop_first, by_stop: vec![], by_stop_dep, trips_today: 0, rides_by_time: Default::default() }
     }
 
     proptest! {

@@ -432,7 +432,7 @@ impl Ctx<'_> {
 /// rules (`Timetable::change_s`) and boarded directly, instead of through the shared waiting chain
 /// (which cannot remember which trip the rider came from).
 pub(crate) fn rule_boardings(tt: &Timetable, net: &Network, p: &Params, horizon: u32, mask: u8, e2: usize, at: u32) -> Vec<(u32, u32)> {
-    let (v, ta) = (net.stop[e2], net.arr[e2]);
+    let (v, ta) = (net.stop[e2], net.arr(e2));
     let from_trip = net.instance_of(e2 as u32).trip;
     let mut out = Vec::new();
     let Some(start) = net.first_departure(v, ta) else { return out };
@@ -544,7 +544,7 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
             if net.flags[e2] & NO_DROP_OFF != 0 || !cx.event_ok(e2) {
                 continue;
             }
-            let ta = net.arr[e2];
+            let ta = net.arr(e2);
             if ta > cx.horizon {
                 continue;
             }
@@ -615,7 +615,7 @@ fn sink_arrival(net: &Network, tt: &Timetable, st: &SearchState, p: &Params, end
     let r = st.pred_of(sink);
     let Node::Ride(e) = decode(net, r).1 else { return None };
     let e2 = e as usize + 1;
-    let (ta, v) = (net.arr[e2], net.stop[e2]);
+    let (ta, v) = (net.arr(e2), net.stop[e2]);
     if ends.targets.contains(&v) {
         return Some((ta, 0));
     }
@@ -807,7 +807,7 @@ pub fn edges_of(tt: &Timetable, net: &Network, ends: &Endpoints, p: &Params, nod
                 out.push((node + 1, net.dep[e2] - t));
             }
             if net.flags[e2] & NO_DROP_OFF == 0 && ok(e2) {
-                let ta = net.arr[e2];
+                let ta = net.arr(e2);
                 let v = net.stop[e2];
                 if ends.targets.contains(&v) {
                     out.push((per - 1, ta - t));

@@ -105,7 +105,7 @@ pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, or
         if net.flags[e2] & LAST_OF_TRIP == 0 && net.dep[e2] <= horizon {
             on_board[e2 / 64] |= 1u64 << (e2 % 64);
         }
-        let ta = net.arr[e2];
+        let ta = net.arr(e2);
         if net.flags[e2] & NO_DROP_OFF != 0 || !event_ok(net, mask, e2) || ta > horizon {
             continue;
         }

@@ -123,7 +123,7 @@ fn oracle_graph(tt: &Timetable, net: &Network, ends: &Endpoints, depart_s: u32, 
         search::edges_of(tt, net, ends, p, node, &mut out);
         for &(to, w) in &out {
             let within = match (decode(net, node).1, decode(net, to).1) {
-                (Node::Ride(e), Node::Sink) => net.arr[e as usize + 1] <= horizon,
+                (Node::Ride(e), Node::Sink) => net.arr(e as usize + 1) <= horizon,
                 _ => node_time(net, to).is_some_and(|t| t <= horizon),
             };
             if within {
@@ -224,10 +224,10 @@ fn compare_sweep(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u
     for e in 0..net.events() {
         let reached = dist.contains_key(&NodeIndex::new(net.events() + e));
         let e2 = e + 1;
-        if !reached || net.flags[e] & LAST_OF_TRIP != 0 || net.flags[e2] & NO_DROP_OFF != 0 || !step_free_ok(e2) || net.arr[e2] > horizon {
+        if !reached || net.flags[e] & LAST_OF_TRIP != 0 || net.flags[e2] & NO_DROP_OFF != 0 || !step_free_ok(e2) || net.arr(e2) > horizon {
             continue;
         }
-        let (v, ta) = (net.stop[e2], net.arr[e2]);
+        let (v, ta) = (net.stop[e2], net.arr(e2));
         arrive(v, ta);
         walks(v).for_each(|(to, d)| arrive(to, ta + d));
     }
