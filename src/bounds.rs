@@ -63,17 +63,27 @@ pub struct Link {
     pub cost_s: u32,
 }
 
-/// Walking links of one profile at one speed, within the longest walk, in CSR form sorted by cost.
+/// A walking link seen from its end: where it starts and what it costs.
+#[derive(Debug, Clone, Copy)]
+pub struct InLink {
+    pub from: StopIdx,
+    pub cost_s: u32,
+}
+
+/// Walking links of one profile at one speed, within the longest walk, in CSR form sorted by cost;
+/// also by their end, so a query can find the stops that walk to its targets.
 #[derive(Debug, Clone, Default)]
 pub struct WalkLinks {
     first: Vec<u32>,
     links: Vec<Link>,
+    ending_first: Vec<u32>,
+    ending: Vec<InLink>,
 }
 
 impl WalkLinks {
     pub fn build(tt: &Timetable, key: &WalkKey) -> WalkLinks {
         let set = tt.walk(key.profile);
-        let mut out = WalkLinks { first: Vec::with_capacity(tt.stops.len() + 1), links: Vec::new() };
+        let mut out = WalkLinks { first: Vec::with_capacity(tt.stops.len() + 1), ..WalkLinks::default() };
         out.first.push(0);
         for s in 0..tt.stops.len() {
             let start = out.links.len();
@@ -87,7 +97,29 @@ impl WalkLinks {
             out.links[start..].sort_unstable_by_key(|l| (l.cost_s, l.to));
             out.first.push(out.links.len() as u32);
         }
+        let n = tt.stops.len();
+        out.ending_first = vec![0; n + 1];
+        for l in &out.links {
+            out.ending_first[l.to.idx() + 1] += 1;
+        }
+        for i in 0..n {
+            out.ending_first[i + 1] += out.ending_first[i];
+        }
+        let mut slot = out.ending_first.clone();
+        out.ending = vec![InLink { from: StopIdx(0), cost_s: 0 }; out.links.len()];
+        for s in 0..n {
+            for l in &out.links[out.first[s] as usize..out.first[s + 1] as usize] {
+                out.ending[slot[l.to.idx()] as usize] = InLink { from: StopIdx(s as u32), cost_s: l.cost_s };
+                slot[l.to.idx()] += 1;
+            }
+        }
         out
+    }
+
+    /// The links that end at `t`.
+    #[inline]
+    pub fn ending_at(&self, t: StopIdx) -> &[InLink] {
+        &self.ending[self.ending_first[t.idx()] as usize..self.ending_first[t.idx() + 1] as usize]
     }
 
     #[inline]
@@ -96,7 +128,7 @@ impl WalkLinks {
     }
 
     pub fn bytes(&self) -> usize {
-        self.first.capacity() * 4 + self.links.capacity() * std::mem::size_of::<Link>()
+        (self.first.capacity() + self.ending_first.capacity()) * 4 + self.links.capacity() * std::mem::size_of::<Link>() + self.ending.capacity() * std::mem::size_of::<InLink>()
     }
 }
 

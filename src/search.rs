@@ -166,7 +166,9 @@ struct StopMark {
     /// Where the last departure search at this stop ended: the next one gallops from there, as
     /// a search asks about nearby times at a stop again and again.
     last_pos: u32,
-    target: bool,
+    /// Cost of going on to the sink from an alighting here: 0 at a target, the cheapest walking
+    /// link's cost beside one, `u32::MAX` elsewhere.
+    sink_walk: u32,
 }
 
 #[derive(Debug, Clone, Copy, Default)]
@@ -177,6 +179,9 @@ struct Label {
 }
 
 pub const NO_PRED: u32 = u32::MAX;
+/// Heap items with this bit set stand for the deferred changes after an alighting from the ride
+/// node in the other bits (node ids stay below 2³¹).
+const DEFERRED: u32 = 1 << 31;
 /// Predecessor of nodes reached straight from the origin.
 pub const FROM_ORIGIN: u32 = u32::MAX - 1;
 
@@ -343,7 +348,7 @@ impl Ctx<'_> {
         let m = &mut st.marks[s.idx()];
         if m.stamp != gen {
             let h = self.landmarks.map_or(0, |(lm, act)| self.targets.iter().map(|&t| lm.bound(&act, s, t)).min().unwrap_or(0));
-            *m = StopMark { stamp: gen, h, entry_t: u32::MAX, entry_off: u32::MAX, alight_t: u32::MAX, alight_off: u32::MAX, last_pos: u32::MAX, target: false };
+            *m = StopMark { stamp: gen, h, entry_t: u32::MAX, entry_off: u32::MAX, alight_t: u32::MAX, alight_off: u32::MAX, last_pos: u32::MAX, sink_walk: u32::MAX };
         }
         m
     }
@@ -416,8 +421,30 @@ impl Ctx<'_> {
         true
     }
 
-    fn is_target(&self, st: &mut SearchState, s: StopIdx) -> bool {
-        self.mark(st, s).target
+    /// The changes after alighting at event `e2` at cost `at` from ride node `node`: into the
+    /// stop's own waiting chain (unless a trip-specific rule governs it) and along each walking
+    /// link (sorted by cost, so the first one that cannot beat the best journey ends the loop).
+    #[allow(clippy::too_many_arguments)]
+    #[inline]
+    fn change(&self, tt: &Timetable, st: &mut SearchState, walk: &WalkLinks, base: u32, node: u32, e2: usize, at: u32, rules: bool) {
+        let (v, ta) = (self.net.stop[e2], self.net.arr(e2));
+        if !rules {
+            if let Some(mt) = tt.stop_transfer_s(v, self.p.transfer_s()) {
+                self.enter(st, base, v, ta + mt, at + mt, node);
+            }
+        }
+        for f in walk.from(v) {
+            let wc = at + f.cost_s;
+            if wc > st.best {
+                break;
+            }
+            self.record_arrival(st, f.to, ta + f.walk_s);
+            self.enter(st, base, f.to, ta + f.walk_s, wc, node);
+        }
+    }
+
+    fn sink_walk(&self, st: &mut SearchState, s: StopIdx) -> u32 {
+        self.mark(st, s).sink_walk
     }
 
     fn record_arrival(&self, st: &mut SearchState, s: StopIdx, t: u32) {
@@ -482,7 +509,11 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
     // sink is wanted on its own.
     let prune_by_sink = layers == 1 && goal == Goal::Target;
     for &t in &ends.targets {
-        cx.mark(st, t).target = true;
+        cx.mark(st, t).sink_walk = 0;
+        for l in walk.ending_at(t) {
+            let m = cx.mark(st, l.from);
+            m.sink_walk = m.sink_walk.min(l.cost_s);
+        }
     }
     if goal == Goal::All {
         st.stop_arrival.iter_mut().for_each(|a| *a = u32::MAX);
@@ -496,8 +527,17 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
         }
     }
     let per = st.layer_nodes;
+    let defer = cx.landmarks.is_some() && layers == 1;
     let mut sinks_left = layers;
     while let Some((key, node)) = st.heap.pop() {
+        if node & DEFERRED != 0 {
+            // The changes after alighting from ride node `r` (settled, so its cost is final).
+            let r = node & !DEFERRED;
+            let e = (r % per - cx.e) as usize;
+            let at = st.labels[r as usize].cost + (net.arr(e + 1) - net.dep[e]);
+            cx.change(tt, st, walk, r / per * per, r, e + 1, at, net.flags[e + 1] & HAS_RULES != 0);
+            continue;
+        }
         let c = st.labels[node as usize].cost;
         let (layer, local) = (node / per, node % per);
         let base = layer * per;
@@ -553,10 +593,12 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
                 continue;
             }
             cx.record_arrival(st, v, ta);
-            if cx.is_target(st, v) {
-                st.relax_sink(base + per - 1, at, node, prune_by_sink);
+            let sink_walk = cx.sink_walk(st, v);
+            if sink_walk != u32::MAX {
+                st.relax_sink(base + per - 1, at + sink_walk, node, prune_by_sink);
             }
-            if net.flags[e2] & HAS_RULES != 0 {
+            let rules = net.flags[e2] & HAS_RULES != 0;
+            if rules {
                 let next = if layers == 1 { 0 } else { layer + 1 };
                 if next < layers {
                     let h = cx.h_ride(st, v);
@@ -564,20 +606,17 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
                         st.relax(next * per + e_count + f, cost, h, node);
                     }
                 }
-            } else if let Some(mt) = tt.stop_transfer_s(v, p.transfer_s()) {
-                cx.enter(st, base, v, ta + mt, at + mt, node);
             }
-            for f in walk.from(v) {
-                let wc = at + f.cost_s;
-                // Links are sorted by cost: none after this one can beat the best journey.
-                if wc > st.best {
-                    break;
+            if defer {
+                // Every change from here boards again later, so `at + h(v) + penalty` bounds the
+                // key of whatever it reaches: file the changes under that key, to be made only if
+                // the search gets that far (most alightings near the end of a search never do).
+                let h = cx.h_ride(st, v);
+                if h != UNREACHABLE && at + h + p.transfer_penalty_s <= st.best {
+                    st.heap.push(at + h + p.transfer_penalty_s, node | DEFERRED);
                 }
-                cx.record_arrival(st, f.to, ta + f.walk_s);
-                if cx.is_target(st, f.to) {
-                    st.relax_sink(base + per - 1, wc, node, prune_by_sink);
-                }
-                cx.enter(st, base, f.to, ta + f.walk_s, wc, node);
+            } else {
+                cx.change(tt, st, walk, base, node, e2, at, rules);
             }
         } else {
             // Sink.
