@@ -283,7 +283,7 @@ impl Landmarks {
 }
 
 /// Landmarks used by one query.
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Active {
     n: usize,
     which: [u8; ACTIVE],

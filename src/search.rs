@@ -139,6 +139,12 @@ pub struct SearchState {
     best: u32,
     /// Walking links and landmark tables per walking setting, most recently used last.
     prepared: Vec<Box<Prepared>>,
+    /// Per stop: (bound generation, bound to the target). The bounds depend only on the target,
+    /// the landmarks chosen and the walking setting, so successive searches for the same pair
+    /// (the next options) reuse them.
+    bounds: Vec<(u32, u32)>,
+    bound_gen: u32,
+    bound_for: Option<(WalkKey, Vec<StopIdx>, Active)>,
     /// Buffers of the one-to-all sweep.
     sweep: crate::sweep::SweepBuffers,
     pub settled: u64,
@@ -200,6 +206,7 @@ impl SearchState {
         }
         if self.marks.len() < stops {
             self.marks.resize(stops, StopMark::default());
+            self.bounds.resize(stops, (0, 0));
             self.stop_arrival.resize(stops, u32::MAX);
         }
         // Domination between labels holds only within one layer.
@@ -232,6 +239,26 @@ impl SearchState {
             self.prepared.remove(0);
         }
         self.prepared.push(prep);
+    }
+
+    /// Starts a new bound generation unless the bounds kept are for the same target, landmarks
+    /// and walking setting.
+    fn use_bounds_for(&mut self, key: WalkKey, targets: &[StopIdx], act: Active) {
+        if self.bound_for.as_ref().is_some_and(|(k, t, a)| *k == key && t == targets && *a == act) {
+            return;
+        }
+        self.bound_gen = self.bound_gen.wrapping_add(1);
+        if self.bound_gen == 0 {
+            self.bounds.iter_mut().for_each(|b| b.0 = 0);
+            self.bound_gen = 1;
+        }
+        let (_, t, a) = self.bound_for.get_or_insert_with(|| (key, Vec::new(), act));
+        t.clear();
+        t.extend_from_slice(targets);
+        *a = act;
+        if let Some(b) = self.bound_for.as_mut() {
+            b.0 = key;
+        }
     }
 
     /// Cost of a node in the last search, `None` when it was not reached.
@@ -347,8 +374,18 @@ impl Ctx<'_> {
         let gen = st.generation;
         let m = &mut st.marks[s.idx()];
         if m.stamp != gen {
-            let h = self.landmarks.map_or(0, |(lm, act)| self.targets.iter().map(|&t| lm.bound(&act, s, t)).min().unwrap_or(0));
-            *m = StopMark { stamp: gen, h, entry_t: u32::MAX, entry_off: u32::MAX, alight_t: u32::MAX, alight_off: u32::MAX, last_pos: u32::MAX, sink_walk: u32::MAX };
+            let h = match self.landmarks {
+                None => 0,
+                Some((lm, act)) => {
+                    let b = &mut st.bounds[s.idx()];
+                    if b.0 != st.bound_gen {
+                        *b = (st.bound_gen, self.targets.iter().map(|&t| lm.bound(&act, s, t)).min().unwrap_or(0));
+                    }
+                    b.1
+                }
+            };
+            // The departure hint stays: it is only a hint, checked on use.
+            *m = StopMark { stamp: gen, h, entry_t: u32::MAX, entry_off: u32::MAX, alight_t: u32::MAX, alight_off: u32::MAX, last_pos: m.last_pos, sink_walk: u32::MAX };
         }
         m
     }
@@ -504,6 +541,9 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
         (Goal::Target, Some(lm), Some(&o), Some(&t)) => Some((lm, lm.select(o, t))),
         _ => None,
     };
+    if let Some((_, act)) = landmarks {
+        st.use_bounds_for(prep.key, &ends.targets, act);
+    }
     let cx = Ctx { net, p, mask: p.step_free.event_mask(), horizon: depart_s.saturating_add(p.max_duration_s), goal, e: net.events() as u32, landmarks, targets: &ends.targets };
     // With one layer, the first sink label bounds every useful key; with several, each layer's
     // sink is wanted on its own.
