@@ -482,6 +482,12 @@ struct Report {
     tt_event_bytes: usize,
     walk_bytes: usize,
     search_state_rss: Option<u64>,
+    /// The first point-to-point search, which prepares the walking links and landmark tables.
+    first_search_s: f64,
+    /// The first one-to-all sweep, which sorts the rides by time.
+    first_sweep_s: f64,
+    /// Mean graph nodes settled per earliest-arrival search.
+    settled_mean: f64,
     peak_rss_load: Option<u64>,
     peak_rss_queries: Option<u64>,
     peak_reset: bool,
@@ -545,18 +551,32 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
     let mut st = SearchState::new();
     // The first search sizes the reusable buffers; its RSS growth is their size.
     let rss_before = proc_status_bytes("VmRSS");
+    let t = Instant::now();
     let _ = search::earliest(tt, &net, &mut st, &ends(&qs[0]), qs[0].depart_s, &std_p);
+    let first_search_s = t.elapsed().as_secs_f64();
     let search_state_rss = rss_before.zip(proc_status_bytes("VmRSS")).map(|(a, b)| b.saturating_sub(a));
 
     eprintln!("[{preset}] {n_queries} queries: earliest");
     let mut found = 0;
-    let earliest = time_each(&qs, |q| search::earliest(tt, &net, &mut st, &ends(q), q.depart_s, &std_p), |_, r| found += usize::from(r.is_some()));
+    let mut settled = 0u64;
+    let earliest = time_each(
+        &qs,
+        |q| {
+            let r = search::earliest(tt, &net, &mut st, &ends(q), q.depart_s, &std_p);
+            settled += st.settled;
+            r
+        },
+        |_, r| found += usize::from(r.is_some()),
+    );
     eprintln!("[{preset}] options k=3");
     let options3 = time_each(&qs, |q| search::options(tt, &net, &mut st, &ends(q), q.depart_s, &std_p, 3), |_, _| {});
     eprintln!("[{preset}] step-free strict");
     let mut strict_found = 0;
     let strict = time_each(&qs, |q| search::earliest(tt, &net, &mut st, &ends(q), q.depart_s, &strict_p), |_, r| strict_found += usize::from(r.is_some()));
     eprintln!("[{preset}] one-to-all");
+    let t = Instant::now();
+    search::one_to_all(tt, &net, &mut st, &[qs[0].from], qs[0].depart_s, &std_p);
+    let first_sweep_s = t.elapsed().as_secs_f64();
     let one_to_all = time_each(&qs, |q| search::one_to_all(tt, &net, &mut st, &[q.from], q.depart_s, &std_p).len(), |_, _| {});
     let resolve_qs = &qs[..qs.len().min(200)];
     let resolve = time_each(resolve_qs, |q| engine.resolve(&tt.stops[q.to.idx()].id), |q, r| assert_eq!(r.as_ref().ok(), Some(&q.to), "resolve by id"));
@@ -617,6 +637,9 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
         tt_event_bytes: tt.event_bytes(),
         walk_bytes: WalkProfile::ALL.iter().map(|&w| footpath_bytes(tt.walk(w))).sum(),
         search_state_rss,
+        first_search_s,
+        first_sweep_s,
+        settled_mean: settled as f64 / qs.len() as f64,
         peak_rss_load,
         peak_rss_queries,
         peak_reset,
@@ -796,6 +819,13 @@ fn tables(reports: &[Report]) -> String {
         let _ = writeln!(s, "| {} | `search::run_to_target` vs petgraph `dijkstra` (CSR, {} nodes, {} edges; penalty 300 s) | {} (+{} unanswered skipped) | {} | {} | petgraph {:.1}× slower | {:.1}× | {} |", r.preset, b.pg_nodes, b.pg_edges, b.pg_queries, b.pg_skipped_unreached, fmt_dist(b.ours_dijkstra), fmt_dist(b.pg), b.pg.median / b.ours_dijkstra.median.max(1e-9), b.pg_sum / b.ours_dijkstra_sum.max(1e-9), b.pg_disagree.len());
         let _ = writeln!(s, "| {} | `search::earliest` (penalty 0) vs Connection Scan | {} | {} | {} | ours {:.2}× CSA's time | — | {} |", r.preset, b.csa_queries, fmt_dist(b.ours_p0), fmt_dist(b.csa), b.ours_p0.median / b.csa.median.max(1e-9), b.csa_disagree.len());
         let _ = writeln!(s, "| {} | `search::one_to_all` (4 h) vs Connection Scan one-to-all | {} | {} | {} | ours {:.2}× CSA's time | — | {} queries ({} stop arrivals) |", r.preset, b.o2a_queries, fmt_dist(b.ours_o2a), fmt_dist(b.csa_o2a), b.ours_o2a.median / b.csa_o2a.median.max(1e-9), b.o2a_disagree.len(), b.o2a_stops_disagree);
+    }
+
+    let _ = writeln!(s, "\n#### Search work\n");
+    let _ = writeln!(s, "| preset | nodes settled per earliest-arrival search (mean) | first search (prepares walking links and landmark tables) | first one-to-all (sorts the rides by time) |");
+    let _ = writeln!(s, "|---|---|---|---|");
+    for r in reports {
+        let _ = writeln!(s, "| {} | {:.0} | {:.0} ms | {:.0} ms |", r.preset, r.settled_mean, r.first_search_s * 1e3, r.first_sweep_s * 1e3);
     }
 
     let _ = writeln!(s, "\n#### Memory and load details\n");
