@@ -239,6 +239,7 @@ impl Network {
         self.rides_by_time.get_or_init(|| {
             let mut order: Vec<u32> = (0..self.events() as u32).filter(|&e| self.flags[e as usize] & LAST_OF_TRIP == 0).collect();
             order.sort_unstable_by_key(|&e| ((self.dep[e as usize] as u64) << 32) | e as u64);
+            order.shrink_to_fit();
             order
         })
     }
