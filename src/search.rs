@@ -252,12 +252,13 @@ impl SearchState {
             self.bounds.iter_mut().for_each(|b| b.0 = 0);
             self.bound_gen = 1;
         }
-        let (_, t, a) = self.bound_for.get_or_insert_with(|| (key, Vec::new(), act));
-        t.clear();
-        t.extend_from_slice(targets);
-        *a = act;
-        if let Some(b) = self.bound_for.as_mut() {
-            b.0 = key;
+        match &mut self.bound_for {
+            Some((k, t, a)) => {
+                (*k, *a) = (key, act);
+                t.clear();
+                t.extend_from_slice(targets);
+            }
+            None => self.bound_for = Some((key, targets.to_vec(), act)),
         }
     }
 
