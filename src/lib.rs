@@ -6,6 +6,7 @@
 //! the two shells, the native CLI and the WASM module (`wasm`, the only code that knows about
 //! JavaScript).
 
+pub mod boardings;
 pub mod bounds;
 pub mod engine;
 pub mod error;

@@ -17,6 +17,7 @@
 
 use serde::Serialize;
 
+use crate::boardings::Boardings;
 use crate::bounds::{Active, Landmarks, Prepared, WalkKey, WalkLinks, UNREACHABLE};
 use crate::network::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
 use crate::radix_heap::RadixHeap;
@@ -85,7 +86,7 @@ impl Params {
         }
     }
     /// What the prepared walking data of this setting on `net` are filed under.
-    pub(crate) fn walk_key(&self, net: &Network) -> WalkKey {
+    pub fn walk_key(&self, net: &Network) -> WalkKey {
         WalkKey { network: net.id, profile: self.step_free.walk_profile(), speed_mps: self.walk_speed_mps, max_walk_m: self.max_walk_m, weight: self.walk_weight }
     }
     pub fn transfer_s(&self) -> u32 {
@@ -130,6 +131,9 @@ pub struct SearchState {
     heap: RadixHeap,
     /// What this search knows of each stop, in one record so a touch costs one cache miss.
     marks: Vec<StopMark>,
+    /// Per stop, apart from `marks` so the many entries that turn out dominated read a small
+    /// array that stays in cache.
+    entries: Vec<Entry>,
     stop_arrival: Vec<u32>,
     prune: bool,
     /// Nodes per layer (2 × events + sink + spare).
@@ -145,6 +149,8 @@ pub struct SearchState {
     bounds: Vec<(u32, u32)>,
     bound_gen: u32,
     bound_for: Option<(WalkKey, Vec<StopIdx>, Active)>,
+    /// Boardings bounds for the targets of the kept bounds.
+    boardings: Boardings,
     /// Buffers of the one-to-all sweep.
     sweep: crate::sweep::SweepBuffers,
     pub settled: u64,
@@ -162,10 +168,6 @@ struct StopMark {
     stamp: u32,
     /// Lower bound on the cost from a ride node here to the sink.
     h: u32,
-    /// The best-known waiting-chain entry (requested time, cost − time): a later entry no
-    /// earlier and no cheaper in offset is dominated and skipped.
-    entry_t: u32,
-    entry_off: u32,
     /// The same for alightings (arrival time, cost − time).
     alight_t: u32,
     alight_off: u32,
@@ -175,6 +177,16 @@ struct StopMark {
     /// Cost of going on to the sink from an alighting here: 0 at a target, the cheapest walking
     /// link's cost beside one, `u32::MAX` elsewhere.
     sink_walk: u32,
+}
+
+/// The best-known waiting-chain entry of a stop in the search of generation `stamp`: requested
+/// time `t` and offset `off` (cost − time). A later entry no earlier and no cheaper in offset is
+/// dominated and skipped.
+#[derive(Debug, Clone, Copy, Default)]
+struct Entry {
+    stamp: u32,
+    t: u32,
+    off: u32,
 }
 
 #[derive(Debug, Clone, Copy, Default)]
@@ -206,6 +218,7 @@ impl SearchState {
         }
         if self.marks.len() < stops {
             self.marks.resize(stops, StopMark::default());
+            self.entries.resize(stops, Entry::default());
             self.bounds.resize(stops, (0, 0));
             self.stop_arrival.resize(stops, u32::MAX);
         }
@@ -215,6 +228,7 @@ impl SearchState {
         if self.generation == 0 {
             self.labels.iter_mut().for_each(|l| l.stamp = 0);
             self.marks.iter_mut().for_each(|m| m.stamp = 0);
+            self.entries.iter_mut().for_each(|m| m.stamp = 0);
             self.generation = 1;
         }
         self.heap.clear();
@@ -243,9 +257,10 @@ impl SearchState {
 
     /// Starts a new bound generation unless the bounds kept are for the same target, landmarks
     /// and walking setting.
-    fn use_bounds_for(&mut self, key: WalkKey, targets: &[StopIdx], act: Active) {
+    /// True when it did.
+    fn use_bounds_for(&mut self, key: WalkKey, targets: &[StopIdx], act: Active) -> bool {
         if self.bound_for.as_ref().is_some_and(|(k, t, a)| *k == key && t == targets && *a == act) {
-            return;
+            return false;
         }
         self.bound_gen = self.bound_gen.wrapping_add(1);
         if self.bound_gen == 0 {
@@ -260,6 +275,7 @@ impl SearchState {
             }
             None => self.bound_for = Some((key, targets.to_vec(), act)),
         }
+        true
     }
 
     /// Cost of a node in the last search, `None` when it was not reached.
@@ -386,24 +402,38 @@ impl Ctx<'_> {
                 }
             };
             // The departure hint stays: it is only a hint, checked on use.
-            *m = StopMark { stamp: gen, h, entry_t: u32::MAX, entry_off: u32::MAX, alight_t: u32::MAX, alight_off: u32::MAX, last_pos: m.last_pos, sink_walk: u32::MAX };
+            *m = StopMark { stamp: gen, h, alight_t: u32::MAX, alight_off: u32::MAX, last_pos: m.last_pos, sink_walk: u32::MAX };
         }
         m
     }
-    /// Lower bound on the cost from a ride node at `s` to the sink (0 when not goal-directed).
+    /// Landmark bound on the cost from stop `s` to the sink, penalties left out (0 when not
+    /// goal-directed).
     #[inline]
-    fn h_ride(&self, st: &mut SearchState, s: StopIdx) -> u32 {
+    fn h_stop(&self, st: &mut SearchState, s: StopIdx) -> u32 {
         self.mark(st, s).h
     }
-    /// The same for a waiting node: the sink is reached only on board, so at least one more
-    /// boarding, and its penalty, lies ahead.
+    /// `h` plus the penalties of `boardings` more boardings (none when not goal-directed).
     #[inline]
-    fn h_wait(&self, h_ride: u32) -> u32 {
-        if h_ride == UNREACHABLE || self.landmarks.is_none() {
-            h_ride
+    fn with_boardings(&self, h: u32, boardings: u8) -> u32 {
+        if h == UNREACHABLE || self.landmarks.is_none() {
+            h
         } else {
-            h_ride + self.p.transfer_penalty_s
+            h + self.p.transfer_penalty_s * boardings as u32
         }
+    }
+    /// Lower bound on the cost from waiting node at `s` with landmark bound `h` to the sink.
+    #[inline]
+    fn h_wait(&self, st: &SearchState, s: StopIdx, h: u32) -> u32 {
+        self.with_boardings(h, st.boardings.wait.get(s.idx()).copied().unwrap_or(1))
+    }
+    /// Lower bound on the cost from ride node `R(e)` to the sink.
+    #[inline]
+    fn h_ride(&self, st: &mut SearchState, e: usize) -> u32 {
+        let h = self.h_stop(st, self.net.stop[e]);
+        if self.landmarks.is_none() || h == UNREACHABLE {
+            return h;
+        }
+        self.with_boardings(h, st.boardings.ride(self.net, e))
     }
     #[inline]
     fn event_ok(&self, e: usize) -> bool {
@@ -413,24 +443,31 @@ impl Ctx<'_> {
     /// Enters the waiting chain of `s` at the first departure at or after `t`.
     #[inline]
     fn enter(&self, st: &mut SearchState, layer_base: u32, s: StopIdx, t: u32, cost: u32, pred: u32) {
-        let (prune, best) = (st.prune, st.best);
-        let m = self.mark(st, s);
-        let h = self.h_wait(m.h);
-        if h == UNREACHABLE || cost + h > best {
-            return;
-        }
         // Entering at time t with cost c gives every later waiting node the cost
         // c − t + its time, so an earlier entry (time ≤ t) at no greater offset c − t dominates
-        // this one and nothing would change: skip it before searching the departures.
-        let off = cost - t;
-        if prune {
-            if m.entry_t <= t && m.entry_off <= off {
+        // this one and nothing would change: skip it before searching the departures. An entry
+        // recorded here and then cut by the bound below is safe to keep: whatever it dominates
+        // is cut by the same bound, which only tightens.
+        if st.prune {
+            let off = cost - t;
+            let gen = st.generation;
+            let en = &mut st.entries[s.idx()];
+            if en.stamp != gen {
+                *en = Entry { stamp: gen, t: u32::MAX, off: u32::MAX };
+            }
+            if en.t <= t && en.off <= off {
                 return;
             }
-            if t <= m.entry_t && off <= m.entry_off {
-                (m.entry_t, m.entry_off) = (t, off);
+            if t <= en.t && off <= en.off {
+                (en.t, en.off) = (t, off);
             }
         }
+        let h1 = self.h_stop(st, s);
+        let h = self.h_wait(st, s, h1);
+        if h == UNREACHABLE || cost + h > st.best {
+            return;
+        }
+        let m = self.mark(st, s);
         let found = self.net.first_departure_near(s, t, m.last_pos);
         if let Some(p) = found {
             m.last_pos = p;
@@ -471,10 +508,24 @@ impl Ctx<'_> {
                 self.enter(st, base, v, ta + mt, at + mt, node);
             }
         }
-        for f in walk.from(v) {
+        // Each link's entry has a key of at least `at + h(v)` plus the penalties of the boardings
+        // still needed from its end (the landmark bound is consistent along the link): links
+        // whose end needs too many are passed over without touching that stop's record.
+        let hv = self.h_stop(st, v);
+        let floor = if self.landmarks.is_some() && hv != UNREACHABLE { Some(at + hv) } else { None };
+        let links = walk.from(v);
+        for (i, f) in links.iter().enumerate() {
             let wc = at + f.cost_s;
             if wc > st.best {
                 break;
+            }
+            if let Some(floor) = floor {
+                if self.with_boardings(floor, st.boardings.wait[f.to.idx()]) > st.best {
+                    continue;
+                }
+            }
+            if let Some(ahead) = links.get(i + PREFETCH_AHEAD) {
+                prefetch(&st.entries[ahead.to.idx()]);
             }
             self.record_arrival(st, f.to, ta + f.walk_s);
             self.enter(st, base, f.to, ta + f.walk_s, wc, node);
@@ -490,6 +541,21 @@ impl Ctx<'_> {
             st.stop_arrival[s.idx()] = t;
         }
     }
+}
+
+/// How many walking links ahead `change` asks for the stop records it will read.
+const PREFETCH_AHEAD: usize = 4;
+
+/// Asks the processor to bring `x` into cache (a hint only; no effect where unsupported).
+#[inline(always)]
+fn prefetch<T>(x: &T) {
+    #[cfg(target_arch = "x86_64")]
+    // SAFETY: a prefetch never faults and reads nothing into the program; the pointer is valid.
+    unsafe {
+        std::arch::x86_64::_mm_prefetch(x as *const T as *const i8, std::arch::x86_64::_MM_HINT_T0)
+    };
+    #[cfg(not(target_arch = "x86_64"))]
+    let _ = x;
 }
 
 /// Boardings at the stop of event `e2` for a rider alighting there from a trip that a
@@ -542,8 +608,10 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
         (Goal::Target, Some(lm), Some(&o), Some(&t)) => Some((lm, lm.select(o, t))),
         _ => None,
     };
-    if let Some((_, act)) = landmarks {
-        st.use_bounds_for(prep.key, &ends.targets, act);
+    if let Some((lm, act)) = landmarks {
+        if st.use_bounds_for(prep.key, &ends.targets, act) {
+            st.boardings.compute(&lm.patterns, walk, tt.stops.len(), &ends.targets);
+        }
     }
     let cx = Ctx { net, p, mask: p.step_free.event_mask(), horizon: depart_s.saturating_add(p.max_duration_s), goal, e: net.events() as u32, landmarks, targets: &ends.targets };
     // With one layer, the first sink label bounds every useful key; with several, each layer's
@@ -588,8 +656,8 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
             let pos = local;
             let ev = net.by_stop[pos as usize] as usize;
             let s = net.stop[ev];
-            let hr = cx.h_ride(st, s);
-            let h = cx.h_wait(hr);
+            let hs = cx.h_stop(st, s);
+            let h = cx.h_wait(st, s, hs);
             if key > c + h {
                 continue;
             }
@@ -605,13 +673,14 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
             if f & (NO_PICKUP | LAST_OF_TRIP) == 0 && cx.event_ok(ev) {
                 let next_layer = if layers == 1 { 0 } else { layer + 1 };
                 if next_layer < layers {
+                    let hr = cx.h_ride(st, ev);
                     st.relax(next_layer * per + e_count + ev as u32, c + p.transfer_penalty_s, hr, node);
                 }
             }
         } else if local < 2 * e_count {
             // Ride node R(e): on board, leaving at dep[e].
             let e = (local - e_count) as usize;
-            if key > c + cx.h_ride(st, net.stop[e]) {
+            if key > c + cx.h_ride(st, e) {
                 continue;
             }
             st.settled += 1;
@@ -619,7 +688,7 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
             let e2 = e + 1;
             let v = net.stop[e2];
             if net.flags[e2] & LAST_OF_TRIP == 0 && net.dep[e2] <= cx.horizon {
-                let h = cx.h_ride(st, v);
+                let h = cx.h_ride(st, e2);
                 st.relax(node + 1, c + (net.dep[e2] - t), h, node);
             }
             if net.flags[e2] & NO_DROP_OFF != 0 || !cx.event_ok(e2) {
@@ -642,19 +711,21 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
             if rules {
                 let next = if layers == 1 { 0 } else { layer + 1 };
                 if next < layers {
-                    let h = cx.h_ride(st, v);
                     for (f, cost) in rule_boardings(tt, net, p, cx.horizon, cx.mask, e2, at) {
+                        let h = cx.h_ride(st, f as usize);
                         st.relax(next * per + e_count + f, cost, h, node);
                     }
                 }
             }
             if defer {
-                // Every change from here boards again later, so `at + h(v) + penalty` bounds the
-                // key of whatever it reaches: file the changes under that key, to be made only if
-                // the search gets that far (most alightings near the end of a search never do).
-                let h = cx.h_ride(st, v);
-                if h != UNREACHABLE && at + h + p.transfer_penalty_s <= st.best {
-                    st.heap.push(at + h + p.transfer_penalty_s, node | DEFERRED);
+                // Every change from here boards again later (at least once, and at least as often
+                // as `alight[v]` says), so this bounds the key of whatever it reaches: file the
+                // changes under it, to be made only if the search gets that far (most alightings
+                // near the end of a search never do).
+                let hs = cx.h_stop(st, v);
+                let h = cx.with_boardings(hs, st.boardings.alight[v.idx()].max(1));
+                if h != UNREACHABLE && at + h <= st.best {
+                    st.heap.push(at + h, node | DEFERRED);
                 }
             } else {
                 cx.change(tt, st, walk, base, node, e2, at, rules);

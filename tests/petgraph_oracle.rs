@@ -95,6 +95,46 @@ fn random_feed(seed: u64) -> Feed {
             S9,S9,3,,,T3,T8")
 }
 
+/// The same grid of stops served by a few fixed lines (a random path of 4–6 stops each, 30 trips
+/// a line), so reaching a stop takes anything from one boarding to several, and walking to
+/// another line's stop often saves one.
+fn line_feed(seed: u64) -> Feed {
+    let mut rng = Rng(seed);
+    let mut stops = String::from("stop_id,stop_name,stop_lat,stop_lon\n");
+    for i in 0..STOPS {
+        let (row, col) = (i / 6, i % 6);
+        stops += &format!("S{i},Grid stop {i},{:.5},{:.5}\n", 52.0 + row as f64 * 0.0027, 13.0 + col as f64 * 0.00438);
+    }
+    let mut trips = String::from("route_id,service_id,trip_id\n");
+    let mut times = String::from("trip_id,arrival_time,departure_time,stop_id,stop_sequence\n");
+    for line in 0..7 {
+        let mut path: Vec<u32> = Vec::new();
+        while path.len() < 4 + rng.below(3) as usize {
+            let s = rng.below(STOPS);
+            if !path.contains(&s) {
+                path.push(s);
+            }
+        }
+        let hops: Vec<u32> = path.iter().map(|_| 120 + 60 * rng.below(4)).collect();
+        for k in 0..30 {
+            let id = format!("L{line}T{k}");
+            trips += &format!("R,ALL,{id}\n");
+            let mut t = 6 * 3600 + 60 * rng.below(6 * 60);
+            for (seq, (&stop, &hop)) in path.iter().zip(&hops).enumerate() {
+                times += &format!("{id},{},{},S{stop},{}\n", hms(t), hms(t), seq + 1);
+                t += hop;
+            }
+        }
+    }
+    Feed::new("Etc/GMT-1")
+        .one_route()
+        .file("stops.txt", &stops)
+        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+            ALL,1,1,1,1,1,1,1,20260101,20261231")
+        .file("trips.txt", &trips)
+        .file("stop_times.txt", &times)
+}
+
 /// Position (waiting node) of the first departure at `s` at or after `t`, by a plain scan.
 fn first_at(net: &Network, s: StopIdx, t: u32) -> Option<u32> {
     (net.stop_first[s.idx()]..net.stop_first[s.idx() + 1]).find(|&p| net.dep[net.by_stop[p as usize] as usize] >= t)
@@ -323,6 +363,61 @@ fn one_to_all_sweep_arrivals_equal_petgraph_reachability() {
         let reached = compare_sweep(tt, &net, &origins, depart_s, &p);
         assert!(reached > 5, "only {reached} stops reached from {origins:?} at {depart_s}; the comparison would be weak");
     }
+}
+
+/// The boardings bounds of the goal-directed search against the fewest boardings petgraph
+/// finds from each node to the sink of one target: the same graph, reversed, weighted 1 on a
+/// boarding and 0 elsewhere. The bound may fall short (it is computed on a relaxation, and cut at
+/// `boardings::CAP`) but never exceed it; and on every edge it may drop only by the edge's
+/// boardings (consistency, which A* needs). Also checked: many bounds of 1 and of 2 are exact, so
+/// a bound stuck low would fail.
+#[test]
+fn boardings_bounds_never_exceed_the_fewest_boardings_petgraph_finds() {
+    use timeweave::boardings::{Boardings, Patterns};
+    use timeweave::bounds::WalkLinks;
+    let engine: Engine = line_feed(0xB0A2_2026).load();
+    let tt = &engine.tt;
+    let net = Network::build(tt, NaiveDate::from_ymd_opt(2026, 6, 10).expect("date"));
+    let pat = Patterns::build(&net, tt.stops.len());
+    let mut b = Boardings::default();
+    let nodes = 2 * net.events() as u32 + 1;
+    let sink = nodes - 1;
+    let mut exact = [0usize; 4];
+    for p in [Params::default(), Params { max_walk_m: 0.0, ..Params::default() }] {
+        let walk = WalkLinks::build(tt, &p.walk_key(&net));
+        for t in (0..tt.stops.len() as u32).step_by(3) {
+            let ends = Endpoints { origins: vec![], targets: vec![StopIdx(t)] };
+            b.compute(&pat, &walk, tt.stops.len(), &ends.targets);
+            let bound = |node: u32| match decode(&net, node).1 {
+                Node::Wait(q) => b.wait[net.stop[net.by_stop[q as usize] as usize].idx()] as u32,
+                Node::Ride(e) => b.ride(&net, e as usize) as u32,
+                Node::Sink => 0,
+            };
+            let (g, _) = oracle_graph(tt, &net, &ends, 0, &Params { max_duration_s: 40 * 3600, ..p });
+            let mut rev: Graph<(), u32> = Graph::with_capacity(g.node_count(), g.edge_count());
+            for _ in 0..g.node_count() {
+                rev.add_node(());
+            }
+            for e in g.raw_edges() {
+                let (a, z) = (e.source().index() as u32, e.target().index() as u32);
+                if a < nodes {
+                    let boards = u32::from(search::is_boarding(&net, a, z));
+                    assert!(bound(a) <= bound(z) + boards, "bound drops by more than {boards} on {:?} → {:?} (target {t})", decode(&net, a).1, decode(&net, z).1);
+                    rev.add_edge(e.target(), e.source(), boards);
+                }
+            }
+            // petgraph::algo::dijkstra as an independent reference implementation.
+            let fewest = petgraph::algo::dijkstra(&rev, NodeIndex::new(sink as usize), None, |e| *e.weight());
+            for (n, &k) in &fewest {
+                let node = n.index() as u32;
+                assert!(bound(node) <= k, "{:?}: bound {} above the fewest boardings {k} (target {t}, {p:?})", decode(&net, node).1, bound(node));
+                if bound(node) == k {
+                    exact[k.min(3) as usize] += 1;
+                }
+            }
+        }
+    }
+    assert!(exact[1] > 100 && exact[2] > 100, "exact bounds by value 0, 1, 2, 3+: {exact:?}; the check would be weak");
 }
 
 /// `edges_of` is documented as "the outgoing edges of a node", for oracle tests that enumerate
