@@ -113,7 +113,8 @@ impl Boardings {
         for level in 1..=CAP {
             // Waiting at a stop before a frontier stop on some pattern: `level` boardings.
             self.reached.clear();
-            for s in std::mem::take(&mut self.frontier) {
+            for i in 0..self.frontier.len() {
+                let s = self.frontier[i];
                 for &(p, pos) in &pat.at[pat.at_first[s.idx()] as usize..pat.at_first[s.idx() + 1] as usize] {
                     let base = pat.first[p as usize];
                     for j in self.covered[p as usize]..pos {
@@ -127,6 +128,7 @@ impl Boardings {
                 }
             }
             // Alighting where a change (same stop or a walk) reaches such a stop: `level` as well.
+            self.frontier.clear();
             if level == CAP {
                 break;
             }

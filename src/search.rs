@@ -468,7 +468,14 @@ impl Ctx<'_> {
             return;
         }
         let m = self.mark(st, s);
-        let found = self.net.first_departure_near(s, t, m.last_pos);
+        let near = m.last_pos;
+        // The departure found is usually at or near the hint: ask for its label now, so that
+        // cache miss overlaps the one of the departure search.
+        if let Some(l) = st.labels.get((layer_base + near) as usize) {
+            prefetch(l);
+        }
+        let m = self.mark(st, s);
+        let found = self.net.first_departure_near(s, t, near);
         if let Some(p) = found {
             m.last_pos = p;
             let dep = self.net.by_stop_dep[p as usize];
