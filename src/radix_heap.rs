@@ -49,6 +49,13 @@ impl RadixHeap {
         self.len += 1;
     }
 
+    /// The value that the next `pop` returns if nothing is pushed before it, when that is known
+    /// without refiling (a hint for prefetching).
+    #[inline]
+    pub fn next_value(&self) -> Option<u32> {
+        self.buckets[0].last().map(|x| x.1)
+    }
+
     /// Pops an item with the smallest key.
     #[inline]
     pub fn pop(&mut self) -> Option<(u32, u32)> {

@@ -646,6 +646,11 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
     let defer = cx.landmarks.is_some() && layers == 1;
     let mut sinks_left = layers;
     while let Some((key, node)) = st.heap.pop() {
+        if let Some(next) = st.heap.next_value() {
+            if let Some(l) = st.labels.get((next & !DEFERRED) as usize) {
+                prefetch(l);
+            }
+        }
         if node & DEFERRED != 0 {
             // The changes after alighting from ride node `r` (settled, so its cost is final).
             let r = node & !DEFERRED;
