@@ -77,13 +77,7 @@ fn random_feed(seed: u64) -> Feed {
         add_trip(&mut rng, &format!("N{k}"), start);
     }
     add_trip(&mut rng, "FREQ", 6 * 3600);
-    Feed::new("Etc/GMT-1")
-        .one_route()
-        .file("stops.txt", &stops)
-        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
-            ALL,1,1,1,1,1,1,1,20260101,20261231")
-        .file("trips.txt", &trips)
-        .file("stop_times.txt", &times)
+    daily_feed(&stops, &trips, &times)
         .file("frequencies.txt", "trip_id,start_time,end_time,headway_secs,exact_times\nFREQ,06:00:00,09:00:00,600,1")
         .file("transfers.txt", "from_stop_id,to_stop_id,transfer_type,min_transfer_time,from_route_id,from_trip_id,to_trip_id
             S3,S3,2,300,,,
@@ -126,13 +120,18 @@ fn line_feed(seed: u64) -> Feed {
             }
         }
     }
+    daily_feed(&stops, &trips, &times)
+}
+
+/// One route running every day of 2026.
+fn daily_feed(stops: &str, trips: &str, times: &str) -> Feed {
     Feed::new("Etc/GMT-1")
         .one_route()
-        .file("stops.txt", &stops)
+        .file("stops.txt", stops)
         .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
             ALL,1,1,1,1,1,1,1,20260101,20261231")
-        .file("trips.txt", &trips)
-        .file("stop_times.txt", &times)
+        .file("trips.txt", trips)
+        .file("stop_times.txt", times)
 }
 
 /// Position (waiting node) of the first departure at `s` at or after `t`, by a plain scan.
