@@ -467,8 +467,7 @@ impl Ctx<'_> {
         if h == UNREACHABLE || cost + h > st.best {
             return;
         }
-        let m = self.mark(st, s);
-        let near = m.last_pos;
+        let near = self.mark(st, s).last_pos;
         // The departure found is usually at or near the hint: ask for its label now, so that
         // cache miss overlaps the one of the departure search.
         if let Some(l) = st.labels.get((layer_base + near) as usize) {
