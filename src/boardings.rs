@@ -40,7 +40,8 @@ pub struct Patterns {
 }
 
 impl Patterns {
-    pub fn build(net: &Network, stops: usize) -> Patterns {
+    pub fn build(net: &Network) -> Patterns {
+        let stops = net.stop_first.len().saturating_sub(1);
         let mut ids: HashMap<&[StopIdx], u32> = HashMap::new();
         let mut out = Patterns { first: vec![0], ..Patterns::default() };
         let mut start = 0usize;

@@ -24,7 +24,6 @@
 
 use std::sync::atomic::{AtomicU64, Ordering};
 
-use crate::boardings::Patterns;
 use crate::network::{Network, LAST_OF_TRIP};
 use crate::radix_heap::RadixHeap;
 use crate::timetable::{StopIdx, Timetable, WalkProfile};
@@ -183,8 +182,6 @@ impl StopGraph {
 pub struct Landmarks {
     pub landmarks: Vec<StopIdx>,
     rows: Vec<[u32; 2 * LANDMARKS]>,
-    /// The stop sequences, for the boardings bounds of [`crate::boardings`].
-    pub patterns: Patterns,
 }
 
 impl Landmarks {
@@ -227,11 +224,11 @@ impl Landmarks {
             bwd.dijkstra(l.idx(), &mut heap, &mut dist);
             rows.iter_mut().zip(&dist).for_each(|(r, &d)| r[2 * i + 1] = d);
         }
-        Landmarks { landmarks, rows, patterns: Patterns::build(net, n) }
+        Landmarks { landmarks, rows }
     }
 
     pub fn bytes(&self) -> usize {
-        self.rows.capacity() * std::mem::size_of::<[u32; 2 * LANDMARKS]>() + self.patterns.bytes()
+        self.rows.capacity() * std::mem::size_of::<[u32; 2 * LANDMARKS]>()
     }
 
     /// The `ACTIVE` landmarks that bound the cost from `s` to `t` best: a query uses only these,

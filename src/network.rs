@@ -72,12 +72,15 @@ pub struct Network {
     /// Events that leave on a ride (all but each trip's last), sorted by departure time then
     /// event: built on the first one-to-all sweep, as only that needs it.
     rides_by_time: std::sync::OnceLock<Vec<u32>>,
+    /// The distinct stop sequences, built on the first goal-directed search (search data, like
+    /// the landmark tables, so not counted in [`Network::bytes`]).
+    patterns: std::sync::OnceLock<crate::boardings::Patterns>,
 }
 
 impl Network {
     pub fn build(tt: &Timetable, date: NaiveDate) -> Network {
         let tz = tt.feeds.first().map(|f| f.timezone).unwrap_or(chrono_tz::UTC);
-        let mut net = Network { id: crate::bounds::next_id(), date, tz, instances: Vec::new(), dwell: Vec::new(), dep: Vec::new(), stop: Vec::new(), flags: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), by_stop_dep: Vec::new(), trips_today: 0, rides_by_time: Default::default() };
+        let mut net = Network { id: crate::bounds::next_id(), date, tz, instances: Vec::new(), dwell: Vec::new(), dep: Vec::new(), stop: Vec::new(), flags: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), by_stop_dep: Vec::new(), trips_today: 0, rides_by_time: Default::default(), patterns: Default::default() };
         let days = [date - Duration::days(1), date, date + Duration::days(1)];
         // Per feed and day: offset of that service day's origin, and which services run.
         let mut runs: Vec<[bool; 3]> = vec![[false; 3]; tt.services.len()];
@@ -235,6 +238,10 @@ impl Network {
 
     /// Events that leave on a ride, in order of departure (ties by event, so a trip's rides at
     /// one instant keep their order along the trip).
+    pub fn patterns(&self) -> &crate::boardings::Patterns {
+        self.patterns.get_or_init(|| crate::boardings::Patterns::build(self))
+    }
+
     pub fn rides_by_time(&self) -> &[u32] {
         self.rides_by_time.get_or_init(|| {
             let mut order: Vec<u32> = (0..self.events() as u32).filter(|&e| self.flags[e as usize] & LAST_OF_TRIP == 0).collect();
@@ -289,7 +296,7 @@ mod tests {
             by_stop_dep.extend(d);
             stop_first.push(by_stop_dep.len() as u32);
         }
-        Network { id: 0, date: NaiveDate::MIN, tz: chrono_tz::UTC, instances: vec![], dwell: vec![], dep: vec![], stop: vec![], flags: vec![], stop_first, by_stop: vec![], by_stop_dep, trips_today: 0, rides_by_time: Default::default() }
+        Network { id: 0, date: NaiveDate::MIN, tz: chrono_tz::UTC, instances: vec![], dwell: vec![], dep: vec![], stop: vec![], flags: vec![], stop_first, by_stop: vec![], by_stop_dep, trips_today: 0, rides_by_time: Default::default(), patterns: Default::default() }
     }
 
     proptest! {

@@ -614,9 +614,9 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
         (Goal::Target, Some(lm), Some(&o), Some(&t)) => Some((lm, lm.select(o, t))),
         _ => None,
     };
-    if let Some((lm, act)) = landmarks {
+    if let Some((_, act)) = landmarks {
         if st.use_bounds_for(prep.key, &ends.targets, act) {
-            st.boardings.compute(&lm.patterns, walk, tt.stops.len(), &ends.targets);
+            st.boardings.compute(net.patterns(), walk, tt.stops.len(), &ends.targets);
         }
     }
     let cx = Ctx { net, p, mask: p.step_free.event_mask(), horizon: depart_s.saturating_add(p.max_duration_s), goal, e: net.events() as u32, landmarks, targets: &ends.targets };

@@ -372,12 +372,11 @@ fn one_to_all_sweep_arrivals_equal_petgraph_reachability() {
 /// a bound stuck low would fail.
 #[test]
 fn boardings_bounds_never_exceed_the_fewest_boardings_petgraph_finds() {
-    use timeweave::boardings::{Boardings, Patterns};
+    use timeweave::boardings::Boardings;
     use timeweave::bounds::WalkLinks;
     let engine: Engine = line_feed(0xB0A2_2026).load();
     let tt = &engine.tt;
     let net = Network::build(tt, NaiveDate::from_ymd_opt(2026, 6, 10).expect("date"));
-    let pat = Patterns::build(&net, tt.stops.len());
     let mut b = Boardings::default();
     let nodes = 2 * net.events() as u32 + 1;
     let sink = nodes - 1;
@@ -386,7 +385,7 @@ fn boardings_bounds_never_exceed_the_fewest_boardings_petgraph_finds() {
         let walk = WalkLinks::build(tt, &p.walk_key(&net));
         for t in (0..tt.stops.len() as u32).step_by(3) {
             let ends = Endpoints { origins: vec![], targets: vec![StopIdx(t)] };
-            b.compute(&pat, &walk, tt.stops.len(), &ends.targets);
+            b.compute(net.patterns(), &walk, tt.stops.len(), &ends.targets);
             let bound = |node: u32| match decode(&net, node).1 {
                 Node::Wait(q) => b.wait[net.stop[net.by_stop[q as usize] as usize].idx()] as u32,
                 Node::Ride(e) => b.ride(&net, e as usize) as u32,
