@@ -17,6 +17,13 @@
 //! touches. A stop that cannot reach a landmark the target reaches cannot reach the target:
 //! its bound is [`UNREACHABLE`] and the search never enters it.
 //!
+//! **Exact near the query.** Landmark bounds are loosest near the origin, where a search spends
+//! most of its work. So per query an A* on the reversed stop graph runs from the target towards
+//! the origin, guided by the landmark bound from the origin, until the origin is settled
+//! ([`Landmarks::exact_near`]): the stops it settles (those on or near the best stop-graph routes)
+//! get their exact stop-graph distance, and the others `max(K − π(s), landmark bound)`, where `K`
+//! is the origin's distance and `π(s)` the landmark bound from the origin to `s`.
+//!
 //! **Invariant:** the bound is *consistent* (for every edge `u → v` of the time-expanded graph,
 //! `h(u) ≤ w(u, v) + h(v)`), because every such edge is matched by a stop-graph path no longer than
 //! it. So A* keys never decrease, the radix heap stays valid, and every node the search settles
@@ -30,6 +37,8 @@ use crate::timetable::{StopIdx, Timetable, WalkProfile};
 
 /// Bound of a stop that cannot reach the target.
 pub const UNREACHABLE: u32 = u32::MAX;
+/// Marks a settled stop's distance in [`Landmarks::exact_near`] (distances stay below 2³¹ s).
+const SETTLED: u32 = 1 << 31;
 
 /// Landmarks per table, and how many of them one query uses. 16 and 8 are common choices for
 /// ALT (common practice, no source); measured here in DEVELOPERS.md.
@@ -133,6 +142,7 @@ impl WalkLinks {
 }
 
 /// A weighted directed graph over stops in CSR form.
+#[derive(Debug, Clone, Default)]
 struct StopGraph {
     first: Vec<u32>,
     to: Vec<u32>,
@@ -176,12 +186,23 @@ impl StopGraph {
     }
 }
 
+/// A stop's state in [`Landmarks::exact_near`]: its tentative distance (with [`SETTLED`] once
+/// final) and its potential, valid in the search of `stamp`.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Tentative {
+    pub stamp: u32,
+    d: u32,
+    pub potential: u32,
+}
+
 /// Landmark distance tables: for stop `s`, `rows[s][2i]` is `d(L_i, s)` and `rows[s][2i + 1]` is
 /// `d(s, L_i)`, so one stop's bound reads one row.
 #[derive(Debug, Clone, Default)]
 pub struct Landmarks {
     pub landmarks: Vec<StopIdx>,
     rows: Vec<[u32; 2 * LANDMARKS]>,
+    /// The stop graph reversed, for exact bounds near a query's target.
+    reversed: StopGraph,
 }
 
 impl Landmarks {
@@ -224,11 +245,62 @@ impl Landmarks {
             bwd.dijkstra(l.idx(), &mut heap, &mut dist);
             rows.iter_mut().zip(&dist).for_each(|(r, &d)| r[2 * i + 1] = d);
         }
-        Landmarks { landmarks, rows }
+        Landmarks { landmarks, rows, reversed: bwd }
     }
 
     pub fn bytes(&self) -> usize {
-        self.rows.capacity() * std::mem::size_of::<[u32; 2 * LANDMARKS]>()
+        self.rows.capacity() * std::mem::size_of::<[u32; 2 * LANDMARKS]>() + (self.reversed.first.capacity() + self.reversed.to.capacity() + self.reversed.w.capacity()) * 4
+    }
+
+    /// Exact stop-graph costs to the nearest target, by A* on the reversed stop graph towards the
+    /// origins (`potential(s)`: a consistent lower bound on the cost from the origins to `s`), until
+    /// every origin is settled: `put(s, d)` for each stop settled. Returns the last key `K`: every
+    /// stop not put has `d(s) ≥ K − potential(s)` (A* settles in key order), every stop put has
+    /// `d(s) ≤ K − potential(s)`, so `max(K − potential(s), landmark bound)` bounds the others and
+    /// the bound made of both stays consistent. `UNREACHABLE` when an origin cannot reach a target.
+    pub fn exact_near(&self, targets: &[StopIdx], origins: &[StopIdx], heap: &mut RadixHeap, tentative: &mut [Tentative], stamp: u32, potential: impl Fn(usize) -> u32, mut put: impl FnMut(usize, u32)) -> u32 {
+        let g = &self.reversed;
+        heap.clear();
+        for &t in targets {
+            let pt = potential(t.idx());
+            if let Some(x) = tentative.get_mut(t.idx()).filter(|_| pt != UNREACHABLE) {
+                *x = Tentative { stamp, d: 0, potential: pt };
+                heap.push(pt, t.0);
+            }
+        }
+        let mut left = origins.len();
+        let is_origin = |u: u32| origins.iter().any(|o| o.0 == u);
+        while let Some((key, u)) = heap.pop() {
+            let x = &mut tentative[u as usize];
+            // Stale, or settled already (its distance then carries the `SETTLED` bit).
+            if x.stamp != stamp || key != x.d.wrapping_add(x.potential) {
+                continue;
+            }
+            let d = x.d;
+            x.d |= SETTLED;
+            put(u as usize, d);
+            if is_origin(u) {
+                left -= 1;
+                if left == 0 {
+                    return key;
+                }
+            }
+            let (a, b) = (g.first[u as usize] as usize, g.first[u as usize + 1] as usize);
+            for i in a..b {
+                let v = g.to[i] as usize;
+                let nd = d.saturating_add(g.w[i]);
+                let y = &mut tentative[v];
+                if y.stamp != stamp {
+                    *y = Tentative { stamp, d: UNREACHABLE & !SETTLED, potential: potential(v) };
+                }
+                if y.potential != UNREACHABLE && nd < y.d & !SETTLED {
+                    y.d = nd;
+                    heap.push(nd + y.potential, v as u32);
+                }
+            }
+        }
+        // Every stop that reaches a target was settled before an origin was missed.
+        UNREACHABLE
     }
 
     /// The `ACTIVE` landmarks that bound the cost from `s` to `t` best: a query uses only these,

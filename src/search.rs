@@ -18,7 +18,7 @@
 use serde::Serialize;
 
 use crate::boardings::Boardings;
-use crate::bounds::{Active, Landmarks, Prepared, WalkKey, WalkLinks, UNREACHABLE};
+use crate::bounds::{Active, Landmarks, Prepared, Tentative, WalkKey, WalkLinks, UNREACHABLE};
 use crate::network::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
 use crate::radix_heap::RadixHeap;
 use crate::timetable::{StopIdx, Timetable, WalkProfile, NO_DROP_OFF, NO_PICKUP};
@@ -148,7 +148,13 @@ pub struct SearchState {
     /// (the next options) reuse them.
     bounds: Vec<(u32, u32)>,
     bound_gen: u32,
+    /// What the kept bounds are for: walking setting, targets then origins, landmarks.
     bound_for: Option<(WalkKey, Vec<StopIdx>, Active)>,
+    /// Tentative distances of the exact backward search near the target (`Landmarks::exact_near`),
+    /// stamped with the bound generation, and the radius it reached: stops it did not settle are
+    /// bounded by `max(radius, landmark bound)`.
+    exact: Vec<Tentative>,
+    exact_radius: u32,
     /// Boardings bounds for the targets of the kept bounds.
     boardings: Boardings,
     /// Buffers of the one-to-all sweep.
@@ -258,22 +264,25 @@ impl SearchState {
     /// Starts a new bound generation unless the bounds kept are for the same target, landmarks
     /// and walking setting.
     /// True when it did.
-    fn use_bounds_for(&mut self, key: WalkKey, targets: &[StopIdx], act: Active) -> bool {
-        if self.bound_for.as_ref().is_some_and(|(k, t, a)| *k == key && t == targets && *a == act) {
+    fn use_bounds_for(&mut self, key: WalkKey, ends: &Endpoints, act: Active) -> bool {
+        let same = |t: &[StopIdx]| t.len() == ends.targets.len() + ends.origins.len() && t.starts_with(&ends.targets) && t.ends_with(&ends.origins);
+        if self.bound_for.as_ref().is_some_and(|(k, t, a)| *k == key && same(t) && *a == act) {
             return false;
         }
         self.bound_gen = self.bound_gen.wrapping_add(1);
         if self.bound_gen == 0 {
             self.bounds.iter_mut().for_each(|b| b.0 = 0);
+            self.exact.iter_mut().for_each(|b| b.stamp = 0);
             self.bound_gen = 1;
         }
         match &mut self.bound_for {
             Some((k, t, a)) => {
                 (*k, *a) = (key, act);
                 t.clear();
-                t.extend_from_slice(targets);
+                t.extend_from_slice(&ends.targets);
+                t.extend_from_slice(&ends.origins);
             }
-            None => self.bound_for = Some((key, targets.to_vec(), act)),
+            None => self.bound_for = Some((key, [&ends.targets[..], &ends.origins[..]].concat(), act)),
         }
         true
     }
@@ -382,9 +391,14 @@ struct Ctx<'a> {
     /// Landmark tables, and the landmarks chosen for this query, when it is goal-directed.
     landmarks: Option<(&'a Landmarks, Active)>,
     targets: &'a [StopIdx],
+    origins: &'a [StopIdx],
 }
 
-impl Ctx<'_> {
+impl<'a> Ctx<'a> {
+    fn new(net: &'a Network, p: &'a Params, depart_s: u32, goal: Goal, landmarks: Option<(&'a Landmarks, Active)>, ends: &'a Endpoints) -> Self {
+        Ctx { net, p, mask: p.step_free.event_mask(), horizon: depart_s.saturating_add(p.max_duration_s), goal, e: net.events() as u32, landmarks, targets: &ends.targets, origins: &ends.origins }
+    }
+
     /// The record of stop `s` in this search, made fresh (with its bound) on first touch.
     #[inline]
     fn mark<'s>(&self, st: &'s mut SearchState, s: StopIdx) -> &'s mut StopMark {
@@ -396,7 +410,12 @@ impl Ctx<'_> {
                 Some((lm, act)) => {
                     let b = &mut st.bounds[s.idx()];
                     if b.0 != st.bound_gen {
-                        *b = (st.bound_gen, self.targets.iter().map(|&t| lm.bound(&act, s, t)).min().unwrap_or(0));
+                        let alt = self.targets.iter().map(|&t| lm.bound(&act, s, t)).min().unwrap_or(0);
+                        // The backward search touched most stops near its end and knows their bound from the origins.
+                        let kept = st.exact.get(s.idx()).filter(|x| x.stamp == st.bound_gen).map(|x| x.potential);
+                        let from_origin = kept.unwrap_or_else(|| self.origins.iter().map(|&o| lm.bound(&act, o, s)).min().unwrap_or(0));
+                        let far = if st.exact_radius == UNREACHABLE { UNREACHABLE } else { st.exact_radius.saturating_sub(from_origin) };
+                        *b = (st.bound_gen, alt.max(far));
                     }
                     b.1
                 }
@@ -607,19 +626,53 @@ fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, de
     st.give_back(prep);
 }
 
+/// Makes ready the bounds of a goal-directed search from `ends` (kept from the previous search
+/// when it had the same ends, landmarks and walking setting), and returns its landmarks; `None`
+/// when it cannot be goal-directed.
+fn goal_bounds<'a>(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &'a Prepared, ends: &Endpoints) -> Option<(&'a Landmarks, Active)> {
+    let (Some(lm), Some(&o), Some(&t)) = (prep.landmarks.as_ref(), ends.origins.first(), ends.targets.first()) else { return None };
+    let act = lm.select(o, t);
+    if st.use_bounds_for(prep.key, ends, act) {
+        st.boardings.compute(net.patterns(), &prep.walk, tt.stops.len(), &ends.targets);
+        if st.exact.len() < tt.stops.len() {
+            st.exact.resize(tt.stops.len(), Tentative::default());
+        }
+        let (bounds, gen) = (&mut st.bounds, st.bound_gen);
+        let from_origins = |s: usize| ends.origins.iter().map(|&o| lm.bound(&act, o, StopIdx(s as u32))).min().unwrap_or(0);
+        st.exact_radius = lm.exact_near(&ends.targets, &ends.origins, &mut st.heap, &mut st.exact, gen, from_origins, |s, d| bounds[s] = (gen, d));
+        st.heap.clear();
+    }
+    Some((lm, act))
+}
+
+/// The lower bound on the cost from every node to the sink that a point-to-point search from
+/// `ends` keys its nodes by, node by node (for oracle tests); `UNREACHABLE` where the search
+/// knows the sink cannot be reached.
+pub fn node_bounds(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) -> Vec<u32> {
+    st.reset(net, tt.stops.len(), 1);
+    let prep = st.take_prepared(tt, net, p.walk_key(net), true);
+    let landmarks = goal_bounds(tt, net, st, &prep, ends);
+    let cx = Ctx::new(net, p, depart_s, Goal::Target, landmarks, ends);
+    let out = (0..2 * net.events() as u32 + 1)
+        .map(|node| match decode(net, node).1 {
+            Node::Wait(q) => {
+                let s = net.stop[net.by_stop[q as usize] as usize];
+                let h = cx.h_stop(st, s);
+                cx.h_wait(st, s, h)
+            }
+            Node::Ride(e) => cx.h_ride(st, e as usize),
+            Node::Sink => 0,
+        })
+        .collect();
+    st.give_back(prep);
+    out
+}
+
 #[allow(clippy::too_many_arguments)]
 fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepared, ends: &Endpoints, depart_s: u32, p: &Params, layers: u32, goal: Goal) {
     let walk = &prep.walk;
-    let landmarks = match (goal, prep.landmarks.as_ref(), ends.origins.first(), ends.targets.first()) {
-        (Goal::Target, Some(lm), Some(&o), Some(&t)) => Some((lm, lm.select(o, t))),
-        _ => None,
-    };
-    if let Some((_, act)) = landmarks {
-        if st.use_bounds_for(prep.key, &ends.targets, act) {
-            st.boardings.compute(net.patterns(), walk, tt.stops.len(), &ends.targets);
-        }
-    }
-    let cx = Ctx { net, p, mask: p.step_free.event_mask(), horizon: depart_s.saturating_add(p.max_duration_s), goal, e: net.events() as u32, landmarks, targets: &ends.targets };
+    let landmarks = if goal == Goal::Target { goal_bounds(tt, net, st, prep, ends) } else { None };
+    let cx = Ctx::new(net, p, depart_s, goal, landmarks, ends);
     // With one layer, the first sink label bounds every useful key; with several, each layer's
     // sink is wanted on its own.
     let prune_by_sink = layers == 1 && goal == Goal::Target;

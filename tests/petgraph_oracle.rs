@@ -15,6 +15,7 @@ mod support;
 use chrono::NaiveDate;
 use petgraph::graph::{Graph, NodeIndex};
 use support::{hms, Feed};
+use timeweave::bounds::UNREACHABLE;
 use timeweave::network::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
 use timeweave::search::{self, decode, node_time, Endpoints, Node, Params, SearchState, StepFree};
 use timeweave::timetable::{StopIdx, Timetable, NO_DROP_OFF};
@@ -416,6 +417,59 @@ fn boardings_bounds_never_exceed_the_fewest_boardings_petgraph_finds() {
         }
     }
     assert!(exact[1] > 100 && exact[2] > 100, "exact bounds by value 0, 1, 2, 3+: {exact:?}; the check would be weak");
+}
+
+/// The whole bound the goal-directed search keys its nodes by (`search::node_bounds`: landmark
+/// or exact stop-graph time, with its fallback away from the target, plus the boardings
+/// penalties) against each node's true cost to the sink, from petgraph's Dijkstra on the reversed
+/// graph. A* settles nodes at their exact cost only when the bound never exceeds that cost
+/// (admissible) and drops along no edge by more than the edge's weight (consistent). Also checked:
+/// it is exact at many nodes, so a bound stuck low would fail.
+#[test]
+fn goal_directed_bounds_never_exceed_petgraph_costs_to_the_sink() {
+    let engine: Engine = random_feed(0x7157_2026).load();
+    let tt = &engine.tt;
+    let net = Network::build(tt, NaiveDate::from_ymd_opt(2026, 6, 10).expect("date"));
+    let nodes = 2 * net.events() as u32 + 1;
+    let sink = nodes - 1;
+    let mut st = SearchState::new();
+    let (mut exact, mut checked) = (0usize, 0usize);
+    let params = [Params::default(), Params { transfer_penalty_s: 120, walk_weight: 2.0, max_walk_m: 500.0, walk_speed_mps: 0.9, ..Params::new(StepFree::Lenient) }];
+    for p in params {
+        let p = Params { max_duration_s: 40 * 3600, ..p };
+        for t in 0..tt.stops.len() as u32 {
+            let ends = Endpoints { origins: vec![], targets: vec![StopIdx(t)] };
+            let (g, _) = oracle_graph(tt, &net, &ends, 0, &p);
+            let mut rev: Graph<(), u32> = Graph::with_capacity(g.node_count(), g.edge_count());
+            for _ in 0..g.node_count() {
+                rev.add_node(());
+            }
+            for e in g.raw_edges() {
+                rev.add_edge(e.target(), e.source(), e.weight);
+            }
+            // petgraph::algo::dijkstra as an independent reference implementation.
+            let to_sink = petgraph::algo::dijkstra(&rev, NodeIndex::new(sink as usize), None, |e| *e.weight());
+            for o in [(t + 5) % STOPS, (t + 11) % STOPS, (t + 17) % STOPS] {
+                let ends = Endpoints { origins: vec![StopIdx(o)], targets: vec![StopIdx(t)] };
+                let bound = search::node_bounds(tt, &net, &mut st, &ends, 0, &p);
+                for e in g.raw_edges() {
+                    let (a, z) = (e.source().index(), e.target().index());
+                    if a < nodes as usize && bound[a] != UNREACHABLE && bound[z] != UNREACHABLE {
+                        assert!(bound[a] <= e.weight + bound[z], "bound drops by more than the edge's {} on {:?} → {:?} ({} → {}; {o} → {t}, {p:?})", e.weight, decode(&net, a as u32).1, decode(&net, z as u32).1, bound[a], bound[z]);
+                    }
+                }
+                for (n, &c) in &to_sink {
+                    let node = n.index();
+                    if node < nodes as usize {
+                        assert!(bound[node] <= c, "{:?}: bound {} above its cost to the sink {c} ({o} → {t}, {p:?})", decode(&net, node as u32).1, bound[node]);
+                        checked += 1;
+                        exact += usize::from(bound[node] == c);
+                    }
+                }
+            }
+        }
+    }
+    assert!(exact > 1000, "{exact} of {checked} bounds exact; the check would be weak");
 }
 
 /// `edges_of` is documented as "the outgoing edges of a node", for oracle tests that enumerate
