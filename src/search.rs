@@ -614,7 +614,13 @@ pub(crate) fn rule_boardings(tt: &Timetable, net: &Network, p: &Params, horizon:
 /// True when event `e` may be used under the step-free mask (0: any).
 #[inline]
 pub(crate) fn event_ok(net: &Network, mask: u8, e: usize) -> bool {
-    mask == 0 || net.flags[e] & mask != 0
+    flags_ok(net.flags[e], mask)
+}
+
+/// [`event_ok`] on an event's flags already read.
+#[inline]
+pub(crate) fn flags_ok(flags: u8, mask: u8) -> bool {
+    mask == 0 || flags & mask != 0
 }
 
 fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params, layers: u32, goal: Goal) {

@@ -17,7 +17,7 @@
 //! it against that on random feeds.
 
 use crate::network::{Network, HAS_RULES, LAST_OF_TRIP};
-use crate::search::{event_ok, rule_boardings, Params, SearchState};
+use crate::search::{flags_ok, rule_boardings, Params, SearchState};
 use crate::timetable::{StopIdx, Timetable, NO_DROP_OFF, NO_PICKUP};
 
 /// Per stop during a sweep.
@@ -38,6 +38,33 @@ pub(crate) struct SweepBuffers {
 }
 
 const FRESH: SweepStop = SweepStop { entry: u32::MAX, alight: u32::MAX };
+
+/// What the sweep reads of one ride `e` (and of `e + 1`, where it alights).
+#[derive(Debug, Clone, Copy, Default)]
+struct Ride {
+    e: u32,
+    dep: u32,
+    stop: StopIdx,
+    flags: u8,
+    next_flags: u8,
+    next_dep: u32,
+    next_arr: u32,
+    next_stop: StopIdx,
+}
+
+/// Rides gathered ahead of the sweep, in one tight loop of independent loads that the processor
+/// overlaps: in time order the rides lie scattered over the event arrays, and read one by one
+/// among the sweep's branches each costs a cache miss after the other.
+const AHEAD: usize = 64;
+
+fn gather(net: &Network, order: &[u32], from: usize, out: &mut [Ride; AHEAD]) -> usize {
+    let n = AHEAD.min(order.len().saturating_sub(from));
+    for (r, &e) in out.iter_mut().zip(&order[from..from + n]) {
+        let e = e as usize;
+        *r = Ride { e: e as u32, dep: net.dep[e], stop: net.stop[e], flags: net.flags[e], next_flags: net.flags[e + 1], next_dep: net.dep[e + 1], next_arr: net.arr(e + 1), next_stop: net.stop[e + 1] };
+    }
+    n
+}
 
 /// Earliest arrival at every stop from the origins leaving at `depart_s`, within
 /// `p.max_duration_s` (u32::MAX: not reached).
@@ -72,9 +99,13 @@ pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, or
     // lands on the same instant (so its rides must be read again).
     let (mut group, mut group_t, mut again) = (start, u32::MAX, false);
     let mut i = start;
+    let (mut ahead, mut ahead_from, mut ahead_n) = ([Ride::default(); AHEAD], 0, 0);
     loop {
-        let e = match order.get(i) {
-            Some(&e) if net.dep[e as usize] <= horizon => e as usize,
+        if i < ahead_from || i >= ahead_from + ahead_n {
+            (ahead_from, ahead_n) = (i, gather(net, order, i, &mut ahead));
+        }
+        let r = match ahead.get(i - ahead_from).filter(|_| i < ahead_from + ahead_n) {
+            Some(r) if r.dep <= horizon => *r,
             _ if again => {
                 again = false;
                 i = group;
@@ -82,7 +113,7 @@ pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, or
             }
             _ => break,
         };
-        let t = net.dep[e];
+        let (e, t) = (r.e as usize, r.dep);
         if t != group_t {
             if again {
                 again = false;
@@ -94,24 +125,22 @@ pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, or
         i += 1;
         let bit = 1u64 << (e % 64);
         if on_board[e / 64] & bit == 0 {
-            let s = net.stop[e];
-            if net.flags[e] & NO_PICKUP != 0 || !event_ok(net, mask, e) || t < stops[s.idx()].entry {
+            if r.flags & NO_PICKUP != 0 || !flags_ok(r.flags, mask) || t < stops[r.stop.idx()].entry {
                 continue;
             }
             on_board[e / 64] |= bit;
         }
         // On board at e: stay on, and alight at the next stop.
         let e2 = e + 1;
-        if net.flags[e2] & LAST_OF_TRIP == 0 && net.dep[e2] <= horizon {
+        if r.next_flags & LAST_OF_TRIP == 0 && r.next_dep <= horizon {
             on_board[e2 / 64] |= 1u64 << (e2 % 64);
         }
-        let ta = net.arr(e2);
-        if net.flags[e2] & NO_DROP_OFF != 0 || !event_ok(net, mask, e2) || ta > horizon {
+        let (ta, v) = (r.next_arr, r.next_stop);
+        if r.next_flags & NO_DROP_OFF != 0 || !flags_ok(r.next_flags, mask) || ta > horizon {
             continue;
         }
-        let v = net.stop[e2];
         arrival[v.idx()] = arrival[v.idx()].min(ta);
-        if net.flags[e2] & HAS_RULES != 0 {
+        if r.next_flags & HAS_RULES != 0 {
             for (f, _) in rule_boardings(tt, net, p, horizon, mask, e2, 0) {
                 let f = f as usize;
                 if on_board[f / 64] & (1u64 << (f % 64)) == 0 {

@@ -20,7 +20,7 @@ pub use walking::{Footpath, FootpathSet, PathwayStep, WalkConfig, WalkProfile};
 
 macro_rules! index_type {
     ($name:ident) => {
-        #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+        #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Default)]
         pub struct $name(pub u32);
         impl $name {
             #[inline]
