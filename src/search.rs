@@ -7,7 +7,8 @@
 //! the first" among journeys that ride at all; a walk-only journey is compared separately.
 //!
 //! Point-to-point searches are goal-directed (A*): a node's key is its cost plus a lower bound on
-//! the cost still to go, from the landmark tables of [`crate::bounds`], and once the sink has a
+//! the cost still to go (time from [`crate::bounds`]: exact on the stop graph near the query,
+//! landmarks elsewhere; penalties from [`crate::boardings`]), and once the sink has a
 //! label nothing with a greater key is pushed. The bound is consistent, so settled nodes keep
 //! their exact Dijkstra costs. One-to-all searches run undirected.
 //!
