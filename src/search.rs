@@ -151,11 +151,11 @@ pub struct SearchState {
     bound_gen: u32,
     /// What the kept bounds are for: walking setting, targets then origins, landmarks.
     bound_for: Option<(WalkKey, Vec<StopIdx>, Active)>,
-    /// Tentative distances of the exact backward search near the target (`Landmarks::exact_near`),
-    /// stamped with the bound generation, and the radius it reached: stops it did not settle are
-    /// bounded by `max(radius, landmark bound)`.
+    /// The backward A* of the kept bounds (`Landmarks::exact_near`): its per-stop state, stamped
+    /// with the bound generation, and its last key `K`; a stop it did not settle is bounded by
+    /// `max(K − π(s), landmark bound)`.
     exact: Vec<Tentative>,
-    exact_radius: u32,
+    exact_key: u32,
     /// Boardings bounds for the targets of the kept bounds.
     boardings: Boardings,
     /// Buffers of the one-to-all sweep.
@@ -262,8 +262,8 @@ impl SearchState {
         self.prepared.push(prep);
     }
 
-    /// Starts a new bound generation unless the bounds kept are for the same target, landmarks
-    /// and walking setting.
+    /// Starts a new bound generation unless the bounds kept are for the same targets, origins,
+    /// landmarks and walking setting.
     /// True when it did.
     fn use_bounds_for(&mut self, key: WalkKey, ends: &Endpoints, act: Active) -> bool {
         let same = |t: &[StopIdx]| t.len() == ends.targets.len() + ends.origins.len() && t.starts_with(&ends.targets) && t.ends_with(&ends.origins);
@@ -412,10 +412,10 @@ impl<'a> Ctx<'a> {
                     let b = &mut st.bounds[s.idx()];
                     if b.0 != st.bound_gen {
                         let alt = self.targets.iter().map(|&t| lm.bound(&act, s, t)).min().unwrap_or(0);
-                        // The backward search touched most stops near its end and knows their bound from the origins.
+                        // A stop the backward A* touched carries its bound from the origins.
                         let kept = st.exact.get(s.idx()).filter(|x| x.stamp == st.bound_gen).map(|x| x.potential);
                         let from_origin = kept.unwrap_or_else(|| self.origins.iter().map(|&o| lm.bound(&act, o, s)).min().unwrap_or(0));
-                        let far = if st.exact_radius == UNREACHABLE { UNREACHABLE } else { st.exact_radius.saturating_sub(from_origin) };
+                        let far = if st.exact_key == UNREACHABLE { UNREACHABLE } else { st.exact_key.saturating_sub(from_origin) };
                         *b = (st.bound_gen, alt.max(far));
                     }
                     b.1
@@ -646,7 +646,7 @@ fn goal_bounds<'a>(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &'
         }
         let (bounds, gen) = (&mut st.bounds, st.bound_gen);
         let from_origins = |s: usize| ends.origins.iter().map(|&o| lm.bound(&act, o, StopIdx(s as u32))).min().unwrap_or(0);
-        st.exact_radius = lm.exact_near(&ends.targets, &ends.origins, &mut st.heap, &mut st.exact, gen, from_origins, |s, d| bounds[s] = (gen, d));
+        st.exact_key = lm.exact_near(&ends.targets, &ends.origins, &mut st.heap, &mut st.exact, gen, from_origins, |s, d| bounds[s] = (gen, d));
         st.heap.clear();
     }
     Some((lm, act))
