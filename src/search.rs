@@ -403,28 +403,32 @@ impl<'a> Ctx<'a> {
     /// The record of stop `s` in this search, made fresh (with its bound) on first touch.
     #[inline]
     fn mark<'s>(&self, st: &'s mut SearchState, s: StopIdx) -> &'s mut StopMark {
-        let gen = st.generation;
-        let m = &mut st.marks[s.idx()];
-        if m.stamp != gen {
-            let h = match self.landmarks {
-                None => 0,
-                Some((lm, act)) => {
-                    let b = &mut st.bounds[s.idx()];
-                    if b.0 != st.bound_gen {
-                        let alt = self.targets.iter().map(|&t| lm.bound(&act, s, t)).min().unwrap_or(0);
-                        // A stop the backward A* touched carries its bound from the origins.
-                        let kept = st.exact.get(s.idx()).filter(|x| x.stamp == st.bound_gen).map(|x| x.potential);
-                        let from_origin = kept.unwrap_or_else(|| self.origins.iter().map(|&o| lm.bound(&act, o, s)).min().unwrap_or(0));
-                        let far = if st.exact_key == UNREACHABLE { UNREACHABLE } else { st.exact_key.saturating_sub(from_origin) };
-                        *b = (st.bound_gen, alt.max(far));
-                    }
-                    b.1
-                }
-            };
-            // The departure hint stays: it is only a hint, checked on use.
-            *m = StopMark { stamp: gen, h, alight_t: u32::MAX, alight_off: u32::MAX, last_pos: m.last_pos, sink_walk: u32::MAX };
+        if st.marks[s.idx()].stamp != st.generation {
+            self.fresh_mark(st, s);
         }
-        m
+        &mut st.marks[s.idx()]
+    }
+    /// The first touch of stop `s` in this search: its bound, from those kept or made now.
+    #[inline(never)]
+    fn fresh_mark(&self, st: &mut SearchState, s: StopIdx) {
+        let h = match self.landmarks {
+            None => 0,
+            Some((lm, act)) => {
+                let b = &mut st.bounds[s.idx()];
+                if b.0 != st.bound_gen {
+                    let alt = self.targets.iter().map(|&t| lm.bound(&act, s, t)).min().unwrap_or(0);
+                    // A stop the backward A* touched carries its bound from the origins.
+                    let kept = st.exact.get(s.idx()).filter(|x| x.stamp == st.bound_gen).map(|x| x.potential);
+                    let from_origin = kept.unwrap_or_else(|| self.origins.iter().map(|&o| lm.bound(&act, o, s)).min().unwrap_or(0));
+                    let far = if st.exact_key == UNREACHABLE { UNREACHABLE } else { st.exact_key.saturating_sub(from_origin) };
+                    *b = (st.bound_gen, alt.max(far));
+                }
+                b.1
+            }
+        };
+        let m = &mut st.marks[s.idx()];
+        // The departure hint stays: it is only a hint, checked on use.
+        *m = StopMark { stamp: st.generation, h, alight_t: u32::MAX, alight_off: u32::MAX, last_pos: m.last_pos, sink_walk: u32::MAX };
     }
     /// Landmark bound on the cost from stop `s` to the sink, penalties left out (0 when not
     /// goal-directed).
