@@ -104,8 +104,8 @@ pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, or
         if i < ahead_from || i >= ahead_from + ahead_n {
             (ahead_from, ahead_n) = (i, gather(net, order, i, &mut ahead));
         }
-        let r = match ahead.get(i - ahead_from).filter(|_| i < ahead_from + ahead_n) {
-            Some(r) if r.dep <= horizon => *r,
+        let r = match (i < ahead_from + ahead_n).then(|| ahead[i - ahead_from]) {
+            Some(r) if r.dep <= horizon => r,
             _ if again => {
                 again = false;
                 i = group;
