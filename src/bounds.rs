@@ -331,6 +331,12 @@ impl Landmarks {
         h
     }
 
+    /// Lower bound on the cost from the nearest of `origins` to `s` (0 with no origin).
+    #[inline]
+    pub fn bound_from(&self, active: &Active, origins: &[StopIdx], s: StopIdx) -> u32 {
+        origins.iter().map(|&o| self.bound(active, o, s)).min().unwrap_or(0)
+    }
+
     #[inline]
     fn bound_by(&self, i: usize, s: StopIdx, t: StopIdx) -> u32 {
         let (Some(rs), Some(rt)) = (self.rows.get(s.idx()), self.rows.get(t.idx())) else { return 0 };

@@ -419,7 +419,7 @@ impl<'a> Ctx<'a> {
                     let alt = self.targets.iter().map(|&t| lm.bound(&act, s, t)).min().unwrap_or(0);
                     // A stop the backward A* touched carries its bound from the origins.
                     let kept = st.exact.get(s.idx()).filter(|x| x.stamp == st.bound_gen).map(|x| x.potential);
-                    let from_origin = kept.unwrap_or_else(|| self.origins.iter().map(|&o| lm.bound(&act, o, s)).min().unwrap_or(0));
+                    let from_origin = kept.unwrap_or_else(|| lm.bound_from(&act, self.origins, s));
                     let far = if st.exact_key == UNREACHABLE { UNREACHABLE } else { st.exact_key.saturating_sub(from_origin) };
                     *b = (st.bound_gen, alt.max(far));
                 }
@@ -649,7 +649,7 @@ fn goal_bounds<'a>(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &'
             st.exact.resize(tt.stops.len(), Tentative::default());
         }
         let (bounds, gen) = (&mut st.bounds, st.bound_gen);
-        let from_origins = |s: usize| ends.origins.iter().map(|&o| lm.bound(&act, o, StopIdx(s as u32))).min().unwrap_or(0);
+        let from_origins = |s: usize| lm.bound_from(&act, &ends.origins, StopIdx(s as u32));
         st.exact_key = lm.exact_near(&ends.targets, &ends.origins, &mut st.heap, &mut st.exact, gen, from_origins, |s, d| bounds[s] = (gen, d));
         st.heap.clear();
     }
