@@ -90,11 +90,15 @@ export class StopCombobox {
       matches = [];
     }
     if (seq !== this.seq || text !== this.text) return; // a newer keystroke won
+    // A highlight made on the previous suggestions stays on the same stop if it is still
+    // offered; otherwise nothing is highlighted (aria-activedescendant must never name an
+    // option that is not the selected one).
+    const was = this.active >= 0 ? this.matches[this.active]?.id : undefined;
     this.matches = matches;
-    this.active = -1;
     this.#render();
     this.listbox.dataset.query = text; // which text these suggestions answer
     if (document.activeElement === this.input) this.#open();
+    this.#highlight(was === undefined ? -1 : matches.findIndex((m) => m.id === was));
     this.hint.textContent = matches.length
       ? `${matches.length} ${matches.length === 1 ? 'stop matches' : 'stops match'}; use the down arrow to choose.`
       : 'No stop matches.';

@@ -131,6 +131,8 @@ test('the stop picker works by keyboard (combobox pattern)', async () => {
   await h.loadDemo(page);
   await page.focus('#from');
   await page.keyboard.type('velodr');
+  // Under load each keystroke may get its own suggestions; wait for those of the whole text.
+  await page.waitForFunction(() => document.getElementById('from-list').dataset.query === 'velodr');
   // WAI-ARIA Authoring Practices, combobox: aria-expanded reflects the popup.
   await page.waitForSelector('#from[aria-expanded="true"]');
   // Accent-insensitive search (DEVELOPERS.md WASM API): "velodr" finds "Vélodrome".
@@ -148,6 +150,15 @@ test('the stop picker works by keyboard (combobox pattern)', async () => {
   await page.waitForFunction(() => document.getElementById('from-list').dataset.query === 'velo');
   await page.waitForSelector('#from[aria-expanded="true"]');
   await page.keyboard.press('ArrowDown');
+  // New suggestions arriving keep the highlight on the same stop, so that
+  // aria-activedescendant still names the selected option (WAI-ARIA combobox pattern).
+  const before = await page.textContent(`#${await page.getAttribute('#from', 'aria-activedescendant')} .option-name`);
+  await page.keyboard.type('d');
+  await page.waitForFunction(() => document.getElementById('from-list').dataset.query === 'velod');
+  const kept = await page.getAttribute('#from', 'aria-activedescendant');
+  assert.ok(kept);
+  assert.equal(await page.getAttribute(`#${kept}`, 'aria-selected'), 'true');
+  assert.equal(await page.textContent(`#${kept} .option-name`), before);
   await page.keyboard.press('Enter');
   assert.equal(await page.getAttribute('#from', 'aria-expanded'), 'false');
   assert.match(await page.inputValue('#from'), /Vélodrome/);
