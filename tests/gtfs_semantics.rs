@@ -566,3 +566,80 @@ fn a_timed_transfer_at_the_same_instant_is_reached_by_the_one_to_all_sweep() {
     let compact = |id: &str| ids.iter().position(|s| s == id).map(|i| minutes[i]);
     assert_eq!((compact("A"), compact("B"), compact("C")), (Some(0), Some(5), Some(15)));
 }
+
+// ---------------------------------------------------------------------------------------------
+// Row order of stop_times.txt
+
+/// GTFS Schedule reference, stop_times.txt stop_sequence: "The values must increase along the
+/// trip but do not need to be consecutive." The reference sets no order for the file's rows, so
+/// the same rows in any order must give the same timetable, and each bad row one warning.
+#[test]
+fn stop_times_rows_in_any_order_give_the_same_journeys_and_warnings() {
+    // (trip, stop, time, stop_sequence). T1's row 20 comes twice (a repeated line: the second is
+    // skipped with a warning), and the row at stop Z names no stop (skipped with a warning).
+    let rows = [
+        ("T1", "A", "08:00:00", 10),
+        ("T1", "B", "08:10:00", 20),
+        ("T1", "B", "08:10:00", 20),
+        ("T1", "C", "08:20:00", 30),
+        ("T2", "A", "08:05:00", 5),
+        ("T2", "Z", "08:07:00", 6),
+        ("T2", "C", "08:15:00", 7),
+        ("T3", "B", "08:30:00", 1),
+        ("T3", "C", "08:40:00", 2),
+    ];
+    let feed = |order: &[usize]| {
+        let mut times = String::from("trip_id,stop_id,arrival_time,departure_time,stop_sequence\n");
+        for &i in order {
+            let (trip, stop, t, seq) = rows[i];
+            times += &format!("{trip},{stop},{t},{t},{seq}\n");
+        }
+        Feed::new("Etc/GMT-1")
+            .one_route()
+            .file("stops.txt", "stop_id,stop_name,stop_lat,stop_lon
+                A,Alder Quay,52.00,13.00
+                B,Birch Row,52.05,13.00
+                C,Cedar End,52.10,13.00")
+            .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+                ALL,1,1,1,1,1,1,1,20260101,20261231")
+            .file("trips.txt", "route_id,service_id,trip_id
+                R,ALL,T1
+                R,ALL,T2
+                R,ALL,T3")
+            .file("stop_times.txt", &times)
+    };
+    let answer = |order: &[usize]| {
+        let dir = feed(order).write_dir();
+        let mut engine = timeweave::engine::Engine::new();
+        let meta = engine.load_path(dir.path(), &mut |_, _| {}).unwrap_or_else(|e| panic!("{order:?}: {e}"));
+        let mut warnings: Vec<String> = meta.warnings.issues.iter().map(|w| w.message.clone()).collect();
+        warnings.sort();
+        // The warning names the file's line of the row at Z (line 1 is the header).
+        let z_line = order.iter().position(|&i| i == 5).map(|p| p as u64 + 2);
+        let stop_warning = meta.warnings.issues.iter().find(|w| w.field.as_deref() == Some("stop_id")).map(|w| w.line);
+        assert_eq!(stop_warning, Some(z_line), "{order:?}: {:?}", meta.warnings.issues);
+        let journeys: Vec<Vec<String>> = [("A", "C", "07:55"), ("B", "C", "08:01"), ("A", "B", "07:55")]
+            .iter()
+            .map(|(f, t, at)| departures_and_arrivals(&plan(&mut engine, &query(f, t, "2026-06-10", at), StepFree::Off)))
+            .collect();
+        (journeys, warnings)
+    };
+    let in_order: Vec<usize> = (0..rows.len()).collect();
+    let expected = answer(&in_order);
+    // T2 (08:05, arriving 08:15) is the fastest A → C; B → C after 08:01 is T1's 08:10; A → B
+    // only T1.
+    assert_eq!(expected.0[0].first().map(String::as_str), Some("08:05-08:15"), "{expected:?}");
+    assert_eq!(expected.0[1].first().map(String::as_str), Some("08:10-08:20"), "{expected:?}");
+    assert_eq!(expected.0[2].first().map(String::as_str), Some("08:00-08:10"), "{expected:?}");
+    assert_eq!(expected.1.len(), 2, "one warning per bad row: {:?}", expected.1);
+    // Each trip's rows together but backwards, the trips in another order, and rows of
+    // different trips interleaved.
+    let layouts: [&[usize]; 3] = [&[3, 2, 1, 0, 6, 5, 4, 8, 7], &[7, 8, 4, 5, 6, 0, 1, 2, 3], &[0, 4, 7, 1, 5, 8, 2, 6, 3]];
+    for order in layouts {
+        assert_eq!(answer(order), expected, "rows in the order {order:?}");
+    }
+}
+
+fn departures_and_arrivals(r: &timeweave::engine::PlanResult) -> Vec<String> {
+    r.itineraries.iter().map(|i| format!("{}-{}", i.depart, i.arrive)).collect()
+}

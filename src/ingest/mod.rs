@@ -3,8 +3,9 @@
 //!
 //! The new feed is built in a timetable of its own and merged afterwards, so a feed that fails
 //! leaves the loaded network untouched. Ids are scoped per feed (two feeds may both have stop "1").
-//! `stop_times.txt`, by far the largest file, is streamed with the csv crate's `ByteRecord` into a
-//! flat row buffer instead of one struct with owned strings per row.
+//! `stop_times.txt`, by far the largest file, is read with the csv crate's `ByteRecord` (no owned
+//! strings per row) and built trip by trip as the rows come; only a file whose trips' rows are
+//! not together is read a second time into a buffer of all rows (see [`read_stop_times`]).
 
 pub mod files;
 pub mod table;
@@ -14,6 +15,7 @@ use std::path::Path;
 
 use chrono::NaiveDate;
 use chrono_tz::Tz;
+use rustc_hash::FxHashMap;
 use serde::Deserialize;
 
 use crate::error::{FeedError, FeedIssue, WarningLog};
@@ -182,7 +184,7 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
 
     // stops.txt
     stage(progress, "stops.txt");
-    let mut stop_index: HashMap<String, StopIdx> = HashMap::new();
+    let mut stop_index: FxHashMap<String, StopIdx> = FxHashMap::default();
     let mut parents: Vec<(StopIdx, String, u64)> = Vec::new();
     read_table(files, feed, "stops.txt", &["stop_id"], &mut w, |line, s: gtfs_structures::Stop, w| {
         let issue = |m: String| FeedIssue::new(feed, m).file("stops.txt").line(line);
@@ -322,7 +324,7 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
 
     // trips.txt
     stage(progress, "trips.txt");
-    let mut trip_index: HashMap<String, TripIdx> = HashMap::new();
+    let mut trip_index: FxHashMap<String, TripIdx> = FxHashMap::default();
     let mut shape_ids: HashMap<String, u32> = HashMap::new();
     read_table(files, feed, "trips.txt", &["route_id", "service_id", "trip_id"], &mut w, |line, t: gtfs_structures::RawTrip, w| {
         let issue = |m: &str, field: &str, v: &str| FeedIssue::new(feed, m).file("trips.txt").line(line).field(field).value(v);
@@ -375,7 +377,7 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
 
     // stop_times.txt
     stage(progress, "stop_times.txt");
-    read_stop_times(feed, files, &mut tt, &trip_index, &stop_index, &frequencies, &mut w, progress)?;
+    read_stop_times(&StopTimesCx { feed, trip_index: &trip_index, stop_index: &stop_index, frequencies: &frequencies }, files, &mut tt, &mut w, progress)?;
 
     // transfers.txt
     stage(progress, "transfers.txt");
@@ -592,20 +594,54 @@ struct StopTimeRow {
     flags: u8,
 }
 
-#[allow(clippy::too_many_arguments)]
-fn read_stop_times(
-    feed: &str,
-    files: &mut FeedFiles<'_>,
-    tt: &mut Timetable,
-    trip_index: &HashMap<String, TripIdx>,
-    stop_index: &HashMap<String, StopIdx>,
-    frequencies: &HashMap<TripIdx, Vec<FrequencyRow>>,
-    w: &mut WarningLog,
-    progress: Progress,
-) -> Result<(), FeedIssue> {
+/// What reading stop_times.txt needs of the files read before it.
+struct StopTimesCx<'a> {
+    feed: &'a str,
+    trip_index: &'a FxHashMap<String, TripIdx>,
+    stop_index: &'a FxHashMap<String, StopIdx>,
+    frequencies: &'a HashMap<TripIdx, Vec<FrequencyRow>>,
+}
+
+/// Reads stop_times.txt into the trips' events.
+///
+/// Feeds nearly always list each trip's rows together, so the first pass builds trip by trip as
+/// the rows come, holding one trip's rows at a time. If a trip's rows turn up again after another
+/// trip's, that pass is undone (events, trips and its warnings) and a second pass holds all rows
+/// and sorts them by trip.
+fn read_stop_times(cx: &StopTimesCx, files: &mut FeedFiles<'_>, tt: &mut Timetable, w: &mut WarningLog, progress: Progress) -> Result<(), FeedIssue> {
+    let mut trips = TripBuilder::new(std::mem::take(&mut tt.trips));
+    let (events, kept, total) = (tt.ev_stop.len(), w.issues.len(), w.total);
+    if !scan_stop_times(cx, files, w, progress, |r, w| trips.push(cx, tt, w, r))? {
+        trips.reset();
+        tt.ev_stop.truncate(events);
+        tt.ev_arr.truncate(events);
+        tt.ev_dep.truncate(events);
+        tt.ev_flags.truncate(events);
+        w.issues.truncate(kept);
+        w.total = total;
+        let mut rows = Vec::new();
+        scan_stop_times(cx, files, w, progress, |r, _| {
+            rows.push(r);
+            true
+        })?;
+        rows.sort_by_key(|r| r.trip); // stable: each trip's rows keep the file's order
+        for r in rows {
+            trips.push(cx, tt, w, r);
+        }
+    }
+    progress("parsing stop_times.txt", 0.7);
+    trips.finish(cx, tt, w);
+    Ok(())
+}
+
+/// Reads the rows of stop_times.txt, handing each usable one to `row` until it returns false.
+/// Returns whether every row was handed over. Bad rows become located warnings and are skipped.
+fn scan_stop_times(cx: &StopTimesCx, files: &mut FeedFiles<'_>, w: &mut WarningLog, progress: Progress, mut row: impl FnMut(StopTimeRow, &mut WarningLog) -> bool) -> Result<bool, FeedIssue> {
     const FILE: &str = "stop_times.txt";
+    let feed = cx.feed;
     let reader = files.open(feed, FILE)?.ok_or_else(|| FeedIssue::new(feed, "required file is missing").file(FILE))?;
-    let mut rdr = table::csv_reader(reader);
+    // Untrimmed: the csv crate's trimming builds a new record per row; fields are trimmed below.
+    let mut rdr = csv::ReaderBuilder::new().flexible(true).buffer_capacity(1 << 16).from_reader(reader);
     let headers = {
         let h = rdr.byte_headers().map_err(|e| FeedIssue::new(feed, format!("unreadable header: {}", table::csv_message(&e))).file(FILE).line(1))?;
         let strings: Vec<String> = h.iter().map(|c| String::from_utf8_lossy(c).trim_start_matches('\u{feff}').trim().to_string()).collect();
@@ -617,14 +653,14 @@ fn read_stop_times(
     let (c_arr, c_dep) = (col("arrival_time").unwrap_or(0), col("departure_time").unwrap_or(0));
     let (c_pick, c_drop) = (col("pickup_type"), col("drop_off_type"));
 
-    let mut rows: Vec<StopTimeRow> = Vec::new();
     let mut rec = csv::ByteRecord::new();
-    let mut sorted = true;
-    let mut last_key = (0u32, 0u32);
+    let mut rows = 0usize;
+    // Consecutive rows mostly share a trip: the last trip_id found, and its trip.
+    let mut last_trip: (Vec<u8>, Option<TripIdx>) = (Vec::new(), None);
     let issue = |m: String, line: u64, field: &str, v: &[u8]| FeedIssue::new(feed, m).file(FILE).line(line).field(field).value(&String::from_utf8_lossy(v));
     loop {
         match rdr.read_byte_record(&mut rec) {
-            Ok(false) => break,
+            Ok(false) => return Ok(true),
             Ok(true) => {}
             Err(e) => {
                 let line = e.position().map(|p| p.line()).unwrap_or(0);
@@ -636,17 +672,27 @@ fn read_stop_times(
             }
         }
         let line = rec.position().map(|p| p.line()).unwrap_or(0);
-        if rows.len() % 65536 == 0 {
+        rows += 1;
+        if rows % 65536 == 0 {
             progress("parsing stop_times.txt", 0.17);
         }
-        let get = |c: usize| rec.get(c).unwrap_or(b"");
+        let get = |c: usize| rec.get(c).unwrap_or(b"").trim_ascii();
         let text = |c: usize| std::str::from_utf8(get(c)).ok();
-        let Some(trip_id) = text(c_trip) else { w.push(issue("not valid UTF-8; row skipped".into(), line, "trip_id", get(c_trip))); continue };
-        let Some(&trip) = trip_index.get(trip_id) else {
+        let trip = if last_trip.1.is_some() && last_trip.0 == get(c_trip) {
+            last_trip.1
+        } else {
+            let Some(trip_id) = text(c_trip) else { w.push(issue("not valid UTF-8; row skipped".into(), line, "trip_id", get(c_trip))); continue };
+            let found = cx.trip_index.get(trip_id).copied();
+            if found.is_some() {
+                last_trip = (trip_id.as_bytes().to_vec(), found);
+            }
+            found
+        };
+        let Some(trip) = trip else {
             w.push(issue("trip_id names no trip in trips.txt; row skipped".into(), line, "trip_id", get(c_trip)));
             continue;
         };
-        let Some(&stop) = text(c_stop).and_then(|s| stop_index.get(s)) else {
+        let Some(&stop) = text(c_stop).and_then(|s| cx.stop_index.get(s)) else {
             w.push(issue("stop_id names no usable stop in stops.txt; row skipped".into(), line, "stop_id", get(c_stop)));
             continue;
         };
@@ -685,66 +731,99 @@ fn read_stop_times(
         if c_drop.is_some_and(|c| get(c) == b"1") {
             flags |= NO_DROP_OFF;
         }
-        let key = (trip.0, seq);
-        sorted &= key > last_key || rows.is_empty();
-        last_key = key;
-        rows.push(StopTimeRow { trip: trip.0, seq, stop: stop.0, arr, dep, line: line.min(u32::MAX as u64) as u32, flags });
+        if !row(StopTimeRow { trip: trip.0, seq, stop: stop.0, arr, dep, line: line.min(u32::MAX as u64) as u32, flags }, w) {
+            return Ok(false);
+        }
     }
-    if !sorted {
-        rows.sort_by_key(|r| (r.trip, r.seq));
-    }
-    progress("parsing stop_times.txt", 0.7);
+}
 
-    // Group by trip, validate, interpolate, expand frequencies.
-    let mut trips = std::mem::take(&mut tt.trips);
-    let mut out_trips: Vec<Trip> = Vec::with_capacity(trips.len());
-    let mut i = 0;
-    let mut group: Vec<StopTimeRow> = Vec::new();
-    let mut present = vec![false; trips.len()];
-    while i < rows.len() {
-        let t = rows[i].trip;
-        group.clear();
-        while i < rows.len() && rows[i].trip == t {
-            let r = rows[i];
-            if group.last().is_some_and(|g: &StopTimeRow| g.seq == r.seq) {
-                w.push(FeedIssue::new(feed, format!("stop_sequence {} appears twice in trip {}; the later row is skipped", r.seq, trips[t as usize].id)).file(FILE).line(r.line as u64).field("stop_sequence").value(&r.seq.to_string()));
-            } else {
-                group.push(r);
+/// Builds trips from their stop_times rows, one trip at a time: validated, interpolated and, for
+/// trips in frequencies.txt, expanded into their runs.
+struct TripBuilder {
+    /// The trips of trips.txt, by `TripIdx`.
+    templates: Vec<Trip>,
+    /// Trips built, in the order their rows came.
+    out: Vec<Trip>,
+    /// Per template: its rows have been built.
+    done: Vec<bool>,
+    /// The rows of the trip being gathered.
+    group: Vec<StopTimeRow>,
+}
+
+impl TripBuilder {
+    fn new(templates: Vec<Trip>) -> Self {
+        let done = vec![false; templates.len()];
+        TripBuilder { out: Vec::with_capacity(templates.len()), templates, done, group: Vec::new() }
+    }
+
+    /// Adds a row; false when its trip was already built, i.e. that trip's rows are not together.
+    fn push(&mut self, cx: &StopTimesCx, tt: &mut Timetable, w: &mut WarningLog, r: StopTimeRow) -> bool {
+        if self.group.first().is_some_and(|g| g.trip != r.trip) {
+            self.flush(cx, tt, w);
+        }
+        if self.done[r.trip as usize] {
+            return false;
+        }
+        self.group.push(r);
+        true
+    }
+
+    fn flush(&mut self, cx: &StopTimesCx, tt: &mut Timetable, w: &mut WarningLog) {
+        const FILE: &str = "stop_times.txt";
+        let Some(t) = self.group.first().map(|g| g.trip as usize) else { return };
+        self.done[t] = true;
+        let trip = &self.templates[t];
+        // Stable: of two rows with one stop_sequence, the file's first stays first.
+        self.group.sort_by_key(|r| r.seq);
+        let mut prev = None;
+        self.group.retain(|r| {
+            let twice = prev == Some(r.seq);
+            prev = Some(r.seq);
+            if twice {
+                w.push(FeedIssue::new(cx.feed, format!("stop_sequence {} appears twice in trip {}; the later row is skipped", r.seq, trip.id)).file(FILE).line(r.line as u64).field("stop_sequence").value(&r.seq.to_string()));
             }
-            i += 1;
-        }
-        present[t as usize] = true;
-        let trip = &trips[t as usize];
-        if let Err(issue) = check_and_interpolate(feed, tt, &trip.id, &mut group) {
+            !twice
+        });
+        if let Err(issue) = check_and_interpolate(cx.feed, tt, &trip.id, &mut self.group) {
             w.push(issue);
-            continue;
+            self.group.clear();
+            return;
         }
-        let template = trips[t as usize].clone();
-        match frequencies.get(&TripIdx(t)) {
-            None => push_trip(tt, &mut out_trips, template, &group, 0),
+        match cx.frequencies.get(&TripIdx(t as u32)) {
+            None => push_trip(tt, &mut self.out, trip.clone(), &self.group, 0),
             Some(freqs) => {
-                let base = group[0].dep;
+                let base = self.group[0].dep;
                 for f in freqs {
                     let exact = f.exact_times.as_deref() == Some("1");
                     let mut start = f.start_time;
                     while start < f.end_time {
-                        let mut trip = template.clone();
-                        trip.frequency_based = !exact;
-                        trip.headway_s = Some(f.headway_secs);
-                        push_trip(tt, &mut out_trips, trip, &group, start as i64 - base as i64);
+                        let mut run = trip.clone();
+                        run.frequency_based = !exact;
+                        run.headway_s = Some(f.headway_secs);
+                        push_trip(tt, &mut self.out, run, &self.group, start as i64 - base as i64);
                         start += f.headway_secs;
                     }
                 }
             }
         }
+        self.group.clear();
     }
-    let no_times = present.iter().filter(|seen| !**seen).count();
-    if no_times > 0 {
-        w.push(FeedIssue::new(feed, format!("{no_times} trips have no usable stop_times rows and are left out")).file(FILE));
+
+    /// Forgets everything built.
+    fn reset(&mut self) {
+        self.out.clear();
+        self.done.fill(false);
+        self.group.clear();
     }
-    trips.clear();
-    tt.trips = out_trips;
-    Ok(())
+
+    fn finish(mut self, cx: &StopTimesCx, tt: &mut Timetable, w: &mut WarningLog) {
+        self.flush(cx, tt, w);
+        let no_times = self.done.iter().filter(|seen| !**seen).count();
+        if no_times > 0 {
+            w.push(FeedIssue::new(cx.feed, format!("{no_times} trips have no usable stop_times rows and are left out")).file("stop_times.txt"));
+        }
+        tt.trips = self.out;
+    }
 }
 
 fn push_trip(tt: &mut Timetable, out: &mut Vec<Trip>, mut trip: Trip, group: &[StopTimeRow], shift: i64) {
