@@ -232,15 +232,15 @@ impl Csa {
         for (i, inst) in net.instances.iter().enumerate() {
             let end = net.instances.get(i + 1).map_or(net.events() as u32, |n| n.first);
             for e in inst.first as usize..end as usize - 1 {
-                debug_assert_eq!(net.flags[e] & LAST_OF_TRIP, 0);
+                debug_assert_eq!(net.flags(e) & LAST_OF_TRIP, 0);
                 let mut ok = 0;
-                if net.flags[e] & NO_PICKUP == 0 {
+                if net.flags(e) & NO_PICKUP == 0 {
                     ok |= CAN_BOARD;
                 }
-                if net.flags[e + 1] & NO_DROP_OFF == 0 {
+                if net.flags(e + 1) & NO_DROP_OFF == 0 {
                     ok |= CAN_ALIGHT;
                 }
-                conns.push(Conn { dep: net.dep[e], arr: net.arr(e + 1), from: net.stop[e].0, to: net.stop[e + 1].0, trip: i as u32, ok });
+                conns.push(Conn { dep: net.dep(e), arr: net.arr(e + 1), from: net.stop(e).0, to: net.stop(e + 1).0, trip: i as u32, ok });
             }
         }
         // Stable, ties by arrival: hops were pushed in trip order, so a trip's zero-length hops
@@ -375,7 +375,7 @@ impl PgGraph {
             // The ride node of a trip's last event has no incoming edge, and `edges_of` reads
             // past its trip there (see tests/petgraph_oracle.rs).
             if let Node::Ride(e) = kind {
-                if net.flags[e as usize] & LAST_OF_TRIP != 0 {
+                if net.flags(e as usize) & LAST_OF_TRIP != 0 {
                     continue;
                 }
             }
@@ -386,9 +386,9 @@ impl PgGraph {
                 // What `search::run` relaxes into its sink when the alighting stop, or a stop one
                 // walking link away, is a target: here every stop has its own arrival node.
                 let (e, e2) = (e as usize, e as usize + 1);
-                if net.flags[e2] & NO_DROP_OFF == 0 {
-                    let ride = net.arr(e2) - net.dep[e];
-                    let v = net.stop[e2];
+                if net.flags(e2) & NO_DROP_OFF == 0 {
+                    let ride = net.arr(e2) - net.dep(e);
+                    let v = net.stop(e2);
                     row.push((arrival_base + v.0, ride));
                     for f in walk.from(v) {
                         if f.length_m as f64 <= p.max_walk_m {
@@ -421,7 +421,7 @@ impl PgGraph {
     fn add_source(&mut self, tt: &Timetable, net: &Network, p: &Params, q: &Query) -> u32 {
         let src = self.g.add_node(());
         let mut edges: Vec<(u32, u32)> = Vec::new();
-        let dep = |pos: u32| net.dep[net.by_stop[pos as usize] as usize];
+        let dep = |pos: u32| net.dep(net.by_stop[pos as usize] as usize);
         if let Some(pos) = net.first_departure(q.from, q.depart_s) {
             edges.push((pos, dep(pos) - q.depart_s));
         }

@@ -42,19 +42,19 @@ pub struct Patterns {
 impl Patterns {
     pub fn build(net: &Network) -> Patterns {
         let stops = net.stop_first.len().saturating_sub(1);
-        let mut ids: HashMap<&[StopIdx], u32> = HashMap::new();
+        let mut ids: HashMap<Vec<StopIdx>, u32> = HashMap::new();
         let mut out = Patterns { first: vec![0], ..Patterns::default() };
-        let mut start = 0usize;
+        let mut seq = Vec::new();
         for e in 0..net.events() {
-            if net.flags[e] & LAST_OF_TRIP == 0 {
+            seq.push(net.stop(e));
+            if net.flags(e) & LAST_OF_TRIP == 0 {
                 continue;
             }
-            let seq = &net.stop[start..=e];
-            start = e + 1;
             let next = ids.len() as u32;
-            if *ids.entry(seq).or_insert(next) == next {
-                out.stops.extend_from_slice(seq);
+            if let std::collections::hash_map::Entry::Vacant(v) = ids.entry(std::mem::take(&mut seq)) {
+                out.stops.extend_from_slice(v.key());
                 out.first.push(out.stops.len() as u32);
+                v.insert(next);
             }
         }
         let mut count = vec![0u32; stops + 1];
@@ -159,9 +159,9 @@ impl Boardings {
     pub fn ride(&self, net: &Network, e: usize) -> u8 {
         let mut best = CAP;
         let mut j = e;
-        while net.flags[j] & LAST_OF_TRIP == 0 {
+        while net.flags(j) & LAST_OF_TRIP == 0 {
             j += 1;
-            best = best.min(self.alight[net.stop[j].idx()]);
+            best = best.min(self.alight[net.stop(j).idx()]);
             if best == 0 {
                 break;
             }

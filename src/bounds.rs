@@ -218,11 +218,11 @@ impl Landmarks {
             next.clear();
             for p in net.stop_first[s]..net.stop_first[s + 1] {
                 let e = net.by_stop[p as usize] as usize;
-                if net.flags[e] & LAST_OF_TRIP != 0 {
+                if net.flags(e) & LAST_OF_TRIP != 0 {
                     continue;
                 }
-                let v = net.stop[e + 1].0;
-                let w = net.arr(e + 1).saturating_sub(net.dep[e]);
+                let v = net.stop(e + 1).0;
+                let w = net.arr(e + 1).saturating_sub(net.dep(e));
                 match next.iter_mut().find(|x| x.0 == v) {
                     Some(x) => x.1 = x.1.min(w),
                     None => next.push((v, w)),

@@ -225,7 +225,7 @@ impl Builder<'_> {
         let inst = net.instance_of(board);
         let trip = tt.trip(inst.trip);
         let route = &tt.routes[trip.route.idx()];
-        let (from, to) = (net.stop[board as usize], net.stop[alight]);
+        let (from, to) = (net.stop(board as usize), net.stop(alight));
         let mut status = StepFreeStatus::new();
         status.add(trip.wheelchair, format!("trip {}: wheelchair_accessible {}", trip.id, access_word(trip.wheelchair)));
         for (s, what) in [(from, "boarding"), (to, "alighting")] {
@@ -233,9 +233,9 @@ impl Builder<'_> {
             status.add(a, why);
         }
         let intermediate_stops = (board as usize + 1..alight)
-            .map(|e| StopCall { stop_id: tt.stop(net.stop[e]).id.clone(), name: tt.stop(net.stop[e]).name.clone(), arrive_s: net.arr(e), depart_s: net.dep[e], arrive: self.clock(net.arr(e)), depart: self.clock(net.dep[e]) })
+            .map(|e| StopCall { stop_id: tt.stop(net.stop(e)).id.clone(), name: tt.stop(net.stop(e)).name.clone(), arrive_s: net.arr(e), depart_s: net.dep(e), arrive: self.clock(net.arr(e)), depart: self.clock(net.dep(e)) })
             .collect();
-        let (d, a) = (net.dep[board as usize], net.arr(alight));
+        let (d, a) = (net.dep(board as usize), net.arr(alight));
         Leg {
             kind: LegKind::Ride,
             from: self.place(from),
@@ -290,20 +290,20 @@ impl Builder<'_> {
         let mut at: Option<StopIdx> = None;
         let mut depart = None;
         for &(board, last) in &rides {
-            let s = net.stop[board as usize];
+            let s = net.stop(board as usize);
             match at {
                 None => {
                     // Access: from the nearest origin to the first boarding stop.
                     if !self.ends.origins.contains(&s) {
                         let d = access_walk_s(self.tt, self.ends, s, self.params).unwrap_or(0);
                         let o = self.ends.origins.iter().copied().filter(|&o| self.footpath(o, s).is_some_and(|x| x.1 == d)).next().unwrap_or(self.ends.origins[0]);
-                        let leave = net.dep[board as usize].saturating_sub(d).max(self.query_s);
+                        let leave = net.dep(board as usize).saturating_sub(d).max(self.query_s);
                         legs.push(self.walk_leg(o, s, self.footpath(o, s).map(|x| x.0), leave, d));
                         t = leave + d;
                         depart = Some(leave);
                     } else {
-                        depart = Some(net.dep[board as usize]);
-                        t = net.dep[board as usize];
+                        depart = Some(net.dep(board as usize));
+                        t = net.dep(board as usize);
                     }
                 }
                 Some(prev) if prev != s => {
@@ -313,10 +313,10 @@ impl Builder<'_> {
                 }
                 _ => {}
             }
-            let wait = net.dep[board as usize].saturating_sub(t);
+            let wait = net.dep(board as usize).saturating_sub(t);
             let leg = self.ride_leg(board, last, wait);
             t = leg.arrive_s;
-            at = Some(net.stop[last as usize + 1]);
+            at = Some(net.stop(last as usize + 1));
             legs.push(leg);
         }
         if let Some(v) = at {

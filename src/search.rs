@@ -376,8 +376,8 @@ pub fn decode(net: &Network, node: u32) -> (u32, Node) {
 /// Time of a graph node on the network's timeline.
 pub fn node_time(net: &Network, node: u32) -> Option<u32> {
     match decode(net, node).1 {
-        Node::Wait(p) => Some(net.dep[net.by_stop[p as usize] as usize]),
-        Node::Ride(e) => Some(net.dep[e as usize]),
+        Node::Wait(p) => Some(net.dep(net.by_stop[p as usize] as usize)),
+        Node::Ride(e) => Some(net.dep(e as usize)),
         Node::Sink => None,
     }
 }
@@ -453,7 +453,7 @@ impl<'a> Ctx<'a> {
     /// Lower bound on the cost from ride node `R(e)` to the sink.
     #[inline]
     fn h_ride(&self, st: &mut SearchState, e: usize) -> u32 {
-        let h = self.h_stop(st, self.net.stop[e]);
+        let h = self.h_stop(st, self.net.stop(e));
         if self.landmarks.is_none() || h == UNREACHABLE {
             return h;
         }
@@ -532,7 +532,7 @@ impl<'a> Ctx<'a> {
     #[allow(clippy::too_many_arguments)]
     #[inline]
     fn change(&self, tt: &Timetable, st: &mut SearchState, walk: &WalkLinks, base: u32, node: u32, e2: usize, at: u32, rules: bool) {
-        let (v, ta) = (self.net.stop[e2], self.net.arr(e2));
+        let (v, ta) = (self.net.stop(e2), self.net.arr(e2));
         if !rules {
             if let Some(mt) = tt.stop_transfer_s(v, self.p.transfer_s()) {
                 self.enter(st, base, v, ta + mt, at + mt, node);
@@ -593,7 +593,7 @@ fn prefetch<T>(x: &T) {
 /// rules (`Timetable::change_s`) and boarded directly, instead of through the shared waiting chain
 /// (which cannot remember which trip the rider came from).
 pub(crate) fn rule_boardings(tt: &Timetable, net: &Network, p: &Params, horizon: u32, mask: u8, e2: usize, at: u32) -> Vec<(u32, u32)> {
-    let (v, ta) = (net.stop[e2], net.arr(e2));
+    let (v, ta) = (net.stop(e2), net.arr(e2));
     let from_trip = net.instance_of(e2 as u32).trip;
     let mut out = Vec::new();
     let Some(start) = net.first_departure(v, ta) else { return out };
@@ -603,7 +603,7 @@ pub(crate) fn rule_boardings(tt: &Timetable, net: &Network, p: &Params, horizon:
             break;
         }
         let f = net.by_stop[pos as usize];
-        if f as usize == e2 || net.flags[f as usize] & (NO_PICKUP | LAST_OF_TRIP) != 0 || !event_ok(net, mask, f as usize) {
+        if f as usize == e2 || net.flags(f as usize) & (NO_PICKUP | LAST_OF_TRIP) != 0 || !event_ok(net, mask, f as usize) {
             continue;
         }
         let to_trip = net.instance_of(f).trip;
@@ -619,7 +619,7 @@ pub(crate) fn rule_boardings(tt: &Timetable, net: &Network, p: &Params, horizon:
 /// True when event `e` may be used under the step-free mask (0: any).
 #[inline]
 pub(crate) fn event_ok(net: &Network, mask: u8, e: usize) -> bool {
-    flags_ok(net.flags[e], mask)
+    flags_ok(net.flags(e), mask)
 }
 
 /// [`event_ok`] on an event's flags already read.
@@ -667,7 +667,7 @@ pub fn node_bounds(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &E
     let out = (0..2 * net.events() as u32 + 1)
         .map(|node| match decode(net, node).1 {
             Node::Wait(q) => {
-                let s = net.stop[net.by_stop[q as usize] as usize];
+                let s = net.stop(net.by_stop[q as usize] as usize);
                 let h = cx.h_stop(st, s);
                 cx.h_wait(st, s, h)
             }
@@ -718,8 +718,8 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
             // The changes after alighting from ride node `r` (settled, so its cost is final).
             let r = node & !DEFERRED;
             let e = (r % per - cx.e) as usize;
-            let at = st.labels[r as usize].cost + (net.arr(e + 1) - net.dep[e]);
-            cx.change(tt, st, walk, r / per * per, r, e + 1, at, net.flags[e + 1] & HAS_RULES != 0);
+            let at = st.labels[r as usize].cost + (net.arr(e + 1) - net.dep(e));
+            cx.change(tt, st, walk, r / per * per, r, e + 1, at, net.flags(e + 1) & HAS_RULES != 0);
             continue;
         }
         let c = st.labels[node as usize].cost;
@@ -730,7 +730,7 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
             // Waiting node W(p).
             let pos = local;
             let ev = net.by_stop[pos as usize] as usize;
-            let s = net.stop[ev];
+            let s = net.stop(ev);
             let hs = cx.h_stop(st, s);
             let h = cx.h_wait(st, s, hs);
             if key > c + h {
@@ -744,7 +744,7 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
                     st.relax(node + 1, c + (nt - t), h, node);
                 }
             }
-            let f = net.flags[ev];
+            let f = net.flags(ev);
             if f & (NO_PICKUP | LAST_OF_TRIP) == 0 && cx.event_ok(ev) {
                 let next_layer = if layers == 1 { 0 } else { layer + 1 };
                 if next_layer < layers {
@@ -759,14 +759,14 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
                 continue;
             }
             st.settled += 1;
-            let t = net.dep[e];
+            let t = net.dep(e);
             let e2 = e + 1;
-            let v = net.stop[e2];
-            if net.flags[e2] & LAST_OF_TRIP == 0 && net.dep[e2] <= cx.horizon {
+            let v = net.stop(e2);
+            if net.flags(e2) & LAST_OF_TRIP == 0 && net.dep(e2) <= cx.horizon {
                 let h = cx.h_ride(st, e2);
-                st.relax(node + 1, c + (net.dep[e2] - t), h, node);
+                st.relax(node + 1, c + (net.dep(e2) - t), h, node);
             }
-            if net.flags[e2] & NO_DROP_OFF != 0 || !cx.event_ok(e2) {
+            if net.flags(e2) & NO_DROP_OFF != 0 || !cx.event_ok(e2) {
                 continue;
             }
             let ta = net.arr(e2);
@@ -782,7 +782,7 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
             if sink_walk != u32::MAX {
                 st.relax_sink(base + per - 1, at + sink_walk, node, prune_by_sink);
             }
-            let rules = net.flags[e2] & HAS_RULES != 0;
+            let rules = net.flags(e2) & HAS_RULES != 0;
             if rules {
                 let next = if layers == 1 { 0 } else { layer + 1 };
                 if next < layers {
@@ -841,7 +841,7 @@ fn sink_arrival(net: &Network, tt: &Timetable, st: &SearchState, p: &Params, end
     let r = st.pred_of(sink);
     let Node::Ride(e) = decode(net, r).1 else { return None };
     let e2 = e as usize + 1;
-    let (ta, v) = (net.arr(e2), net.stop[e2]);
+    let (ta, v) = (net.arr(e2), net.stop(e2));
     if ends.targets.contains(&v) {
         return Some((ta, 0));
     }
@@ -909,9 +909,9 @@ pub fn departure_of(tt: &Timetable, net: &Network, ends: &Endpoints, j: &Journey
         _ => None,
     });
     let Some(e) = board else { return depart_s };
-    let s = net.stop[net.by_stop[pos as usize] as usize];
+    let s = net.stop(net.by_stop[pos as usize] as usize);
     let access = access_walk_s(tt, ends, s, p).unwrap_or(0);
-    net.dep[e as usize].saturating_sub(access).max(depart_s)
+    net.dep(e as usize).saturating_sub(access).max(depart_s)
 }
 
 /// Walking time from the nearest origin to `s` (0 when `s` is an origin).
@@ -1006,39 +1006,39 @@ pub fn edges_of(tt: &Timetable, net: &Network, ends: &Endpoints, p: &Params, nod
     let per = 2 * e_count + 1;
     let walk = tt.walk(p.step_free.walk_profile());
     let mask = p.step_free.event_mask();
-    let ok = |e: usize| mask == 0 || net.flags[e] & mask != 0;
+    let ok = |e: usize| mask == 0 || net.flags(e) & mask != 0;
     let enter = |s: StopIdx, t: u32, extra: u32, out: &mut Vec<(u32, u32)>, from_t: u32| {
         if let Some(q) = net.first_departure(s, t) {
-            let dep = net.dep[net.by_stop[q as usize] as usize];
+            let dep = net.dep(net.by_stop[q as usize] as usize);
             out.push((q, (dep - from_t) + extra));
         }
     };
     match decode(net, node).1 {
         Node::Wait(pos) => {
             let ev = net.by_stop[pos as usize] as usize;
-            let s = net.stop[ev];
+            let s = net.stop(ev);
             if pos + 1 < net.stop_first[s.idx() + 1] {
-                out.push((node + 1, net.dep[net.by_stop[pos as usize + 1] as usize] - net.dep[ev]));
+                out.push((node + 1, net.dep(net.by_stop[pos as usize + 1] as usize) - net.dep(ev)));
             }
-            if net.flags[ev] & (NO_PICKUP | LAST_OF_TRIP) == 0 && ok(ev) {
+            if net.flags(ev) & (NO_PICKUP | LAST_OF_TRIP) == 0 && ok(ev) {
                 out.push((e_count + ev as u32, p.transfer_penalty_s));
             }
         }
-        Node::Ride(e) if net.flags[e as usize] & LAST_OF_TRIP != 0 => {}
+        Node::Ride(e) if net.flags(e as usize) & LAST_OF_TRIP != 0 => {}
         Node::Ride(e) => {
             let e = e as usize;
-            let t = net.dep[e];
+            let t = net.dep(e);
             let e2 = e + 1;
-            if net.flags[e2] & LAST_OF_TRIP == 0 {
-                out.push((node + 1, net.dep[e2] - t));
+            if net.flags(e2) & LAST_OF_TRIP == 0 {
+                out.push((node + 1, net.dep(e2) - t));
             }
-            if net.flags[e2] & NO_DROP_OFF == 0 && ok(e2) {
+            if net.flags(e2) & NO_DROP_OFF == 0 && ok(e2) {
                 let ta = net.arr(e2);
-                let v = net.stop[e2];
+                let v = net.stop(e2);
                 if ends.targets.contains(&v) {
                     out.push((per - 1, ta - t));
                 }
-                if net.flags[e2] & HAS_RULES != 0 {
+                if net.flags(e2) & HAS_RULES != 0 {
                     for (f, cost) in rule_boardings(tt, net, p, u32::MAX, mask, e2, ta - t) {
                         out.push((e_count + f, cost));
                     }
@@ -1053,7 +1053,7 @@ pub fn edges_of(tt: &Timetable, net: &Network, ends: &Endpoints, p: &Params, nod
                             out.push((per - 1, ta - t + wc));
                         }
                         if let Some(q) = net.first_departure(f.to, ta + d) {
-                            let dep = net.dep[net.by_stop[q as usize] as usize];
+                            let dep = net.dep(net.by_stop[q as usize] as usize);
                             out.push((q, (ta - t) + wc + (dep - ta - d)));
                         }
                     }

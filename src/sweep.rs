@@ -60,8 +60,8 @@ const AHEAD: usize = 64;
 fn gather(net: &Network, order: &[u32], from: usize, out: &mut [Ride; AHEAD]) -> usize {
     let n = AHEAD.min(order.len().saturating_sub(from));
     for (r, &e) in out.iter_mut().zip(&order[from..from + n]) {
-        let e = e as usize;
-        *r = Ride { e: e as u32, dep: net.dep[e], stop: net.stop[e], flags: net.flags[e], next_flags: net.flags[e + 1], next_dep: net.dep[e + 1], next_arr: net.arr(e + 1), next_stop: net.stop[e + 1] };
+        let (a, b) = (net.events[e as usize], net.events[e as usize + 1]);
+        *r = Ride { e, dep: a.dep, stop: a.stop, flags: a.flags, next_flags: b.flags, next_dep: b.dep, next_arr: b.dep - b.dwell as u32, next_stop: b.stop };
     }
     n
 }
@@ -94,7 +94,7 @@ pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, or
     }
 
     let order = net.rides_by_time();
-    let start = order.partition_point(|&e| net.dep[e as usize] < depart_s);
+    let start = order.partition_point(|&e| net.dep(e as usize) < depart_s);
     // First ride of the instant being read, that instant, and whether a change made during it
     // lands on the same instant (so its rides must be read again).
     let (mut group, mut group_t, mut again) = (start, u32::MAX, false);
@@ -145,7 +145,7 @@ pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, or
                 let f = f as usize;
                 if on_board[f / 64] & (1u64 << (f % 64)) == 0 {
                     on_board[f / 64] |= 1u64 << (f % 64);
-                    again |= net.dep[f] == t;
+                    again |= net.dep(f) == t;
                 }
             }
         } else if let Some(mt) = tt.stop_transfer_s(v, change_s) {

@@ -137,7 +137,7 @@ fn daily_feed(stops: &str, trips: &str, times: &str) -> Feed {
 
 /// Position (waiting node) of the first departure at `s` at or after `t`, by a plain scan.
 fn first_at(net: &Network, s: StopIdx, t: u32) -> Option<u32> {
-    (net.stop_first[s.idx()]..net.stop_first[s.idx() + 1]).find(|&p| net.dep[net.by_stop[p as usize] as usize] >= t)
+    (net.stop_first[s.idx()]..net.stop_first[s.idx() + 1]).find(|&p| net.dep(net.by_stop[p as usize] as usize) >= t)
 }
 
 /// The search's graph for `ends` in petgraph: every node's edges from `search::edges_of` (only
@@ -156,7 +156,7 @@ fn oracle_graph(tt: &Timetable, net: &Network, ends: &Endpoints, depart_s: u32, 
         // The ride node of a trip's last event has no incoming edge (staying seated and boarding
         // both stop before it), and `edges_of` must not be asked about it (see the ignored test).
         if let Node::Ride(e) = decode(net, node).1 {
-            if net.flags[e as usize] & LAST_OF_TRIP != 0 {
+            if net.flags(e as usize) & LAST_OF_TRIP != 0 {
                 continue;
             }
         }
@@ -171,7 +171,7 @@ fn oracle_graph(tt: &Timetable, net: &Network, ends: &Endpoints, depart_s: u32, 
             }
         }
     }
-    let dep = |q: u32| net.dep[net.by_stop[q as usize] as usize];
+    let dep = |q: u32| net.dep(net.by_stop[q as usize] as usize);
     let walk_cost = |d: u32| if p.walk_weight == 1.0 { d } else { (d as f64 * p.walk_weight).round() as u32 };
     for &o in &ends.origins {
         if let Some(q) = first_at(net, o, depart_s).filter(|&q| dep(q) <= horizon) {
@@ -250,16 +250,16 @@ fn compare_sweep(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u
     }
     let step_free_ok = |e: usize| match p.step_free {
         StepFree::Off => true,
-        StepFree::Strict => net.flags[e] & STEP_FREE_YES != 0,
-        StepFree::Lenient => net.flags[e] & (STEP_FREE_YES | STEP_FREE_UNKNOWN) != 0,
+        StepFree::Strict => net.flags(e) & STEP_FREE_YES != 0,
+        StepFree::Lenient => net.flags(e) & (STEP_FREE_YES | STEP_FREE_UNKNOWN) != 0,
     };
     for e in 0..net.events() {
         let reached = dist.contains_key(&NodeIndex::new(net.events() + e));
         let e2 = e + 1;
-        if !reached || net.flags[e] & LAST_OF_TRIP != 0 || net.flags[e2] & NO_DROP_OFF != 0 || !step_free_ok(e2) || net.arr(e2) > horizon {
+        if !reached || net.flags(e) & LAST_OF_TRIP != 0 || net.flags(e2) & NO_DROP_OFF != 0 || !step_free_ok(e2) || net.arr(e2) > horizon {
             continue;
         }
-        let (v, ta) = (net.stop[e2], net.arr(e2));
+        let (v, ta) = (net.stop(e2), net.arr(e2));
         arrive(v, ta);
         walks(v).for_each(|(to, d)| arrive(to, ta + d));
     }
@@ -346,7 +346,7 @@ fn one_to_all_sweep_arrivals_equal_petgraph_reachability() {
     let engine: Engine = random_feed(0x7157_2026).load();
     let tt = &engine.tt;
     let net = Network::build(tt, NaiveDate::from_ymd_opt(2026, 6, 10).expect("date"));
-    assert!(net.flags.iter().any(|f| f & HAS_RULES != 0), "the feed has route-specific transfer rules");
+    assert!(net.events.iter().any(|ev| ev.flags & HAS_RULES != 0), "the feed has route-specific transfer rules");
     let short = Params { max_duration_s: 1800, ..Params::default() };
     let cases: Vec<(Vec<&str>, u32, Params)> = vec![
         (vec!["S0"], 7 * 3600, Params::default()),
@@ -388,7 +388,7 @@ fn boardings_bounds_never_exceed_the_fewest_boardings_petgraph_finds() {
             let ends = Endpoints { origins: vec![], targets: vec![StopIdx(t)] };
             b.compute(net.patterns(), &walk, tt.stops.len(), &ends.targets);
             let bound = |node: u32| match decode(&net, node).1 {
-                Node::Wait(q) => b.wait[net.stop[net.by_stop[q as usize] as usize].idx()] as u32,
+                Node::Wait(q) => b.wait[net.stop(net.by_stop[q as usize] as usize).idx()] as u32,
                 Node::Ride(e) => b.ride(&net, e as usize) as u32,
                 Node::Sink => 0,
             };
@@ -485,7 +485,7 @@ fn edges_of_is_defined_on_every_node() {
     for node in 0..2 * net.events() as u32 + 1 {
         search::edges_of(&engine.tt, &net, &ends, &p, node, &mut out);
         if let Node::Ride(e) = decode(&net, node).1 {
-            if net.flags[e as usize] & LAST_OF_TRIP != 0 {
+            if net.flags(e as usize) & LAST_OF_TRIP != 0 {
                 assert!(out.is_empty(), "Ride({e}) is the last event of its trip: no edge leaves it, got {out:?}");
             }
         }
