@@ -145,8 +145,8 @@ impl WalkLinks {
 #[derive(Debug, Clone, Default)]
 struct StopGraph {
     first: Vec<u32>,
-    to: Vec<u32>,
-    w: Vec<u32>,
+    /// Edges as (head, weight): both are read together.
+    edges: Vec<(u32, u32)>,
 }
 
 impl StopGraph {
@@ -160,7 +160,7 @@ impl StopGraph {
         for i in 0..n {
             first[i + 1] += first[i];
         }
-        StopGraph { first, to: edges.iter().map(|e| e.1).collect(), w: edges.iter().map(|e| e.2).collect() }
+        StopGraph { first, edges: edges.iter().map(|e| (e.1, e.2)).collect() }
     }
 
     /// Distances from `src` to every stop (`UNREACHABLE` where none).
@@ -174,9 +174,8 @@ impl StopGraph {
                 continue;
             }
             let (a, b) = (self.first[u as usize] as usize, self.first[u as usize + 1] as usize);
-            for i in a..b {
-                let v = self.to[i] as usize;
-                let nd = d.saturating_add(self.w[i]);
+            for &(v, w) in &self.edges[a..b] {
+                let (v, nd) = (v as usize, d.saturating_add(w));
                 if nd < dist[v] {
                     dist[v] = nd;
                     heap.push(nd, v as u32);
@@ -249,7 +248,7 @@ impl Landmarks {
     }
 
     pub fn bytes(&self) -> usize {
-        self.rows.capacity() * std::mem::size_of::<[u32; 2 * LANDMARKS]>() + (self.reversed.first.capacity() + self.reversed.to.capacity() + self.reversed.w.capacity()) * 4
+        self.rows.capacity() * std::mem::size_of::<[u32; 2 * LANDMARKS]>() + self.reversed.first.capacity() * 4 + self.reversed.edges.capacity() * 8
     }
 
     /// Exact stop-graph costs to the nearest target, by A* on the reversed stop graph towards the
@@ -286,9 +285,8 @@ impl Landmarks {
                 }
             }
             let (a, b) = (g.first[u as usize] as usize, g.first[u as usize + 1] as usize);
-            for i in a..b {
-                let v = g.to[i] as usize;
-                let nd = d.saturating_add(g.w[i]);
+            for &(v, w) in &g.edges[a..b] {
+                let (v, nd) = (v as usize, d.saturating_add(w));
                 let y = &mut tentative[v];
                 if y.stamp != stamp {
                     *y = Tentative { stamp, d: UNREACHABLE & !SETTLED, potential: potential(v) };
