@@ -640,8 +640,7 @@ fn scan_stop_times(cx: &StopTimesCx, files: &mut FeedFiles<'_>, w: &mut WarningL
     const FILE: &str = "stop_times.txt";
     let feed = cx.feed;
     let reader = files.open(feed, FILE)?.ok_or_else(|| FeedIssue::new(feed, "required file is missing").file(FILE))?;
-    // Untrimmed: the csv crate's trimming builds a new record per row; fields are trimmed below.
-    let mut rdr = csv::ReaderBuilder::new().flexible(true).buffer_capacity(1 << 16).from_reader(reader);
+    let mut rdr = table::csv_reader(reader);
     let headers = {
         let h = rdr.byte_headers().map_err(|e| FeedIssue::new(feed, format!("unreadable header: {}", table::csv_message(&e))).file(FILE).line(1))?;
         let strings: Vec<String> = h.iter().map(|c| String::from_utf8_lossy(c).trim_start_matches('\u{feff}').trim().to_string()).collect();

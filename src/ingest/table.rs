@@ -11,9 +11,10 @@ use serde::de::DeserializeOwned;
 
 use crate::error::{FeedIssue, WarningLog};
 
-/// Opens a CSV reader that trims fields (real feeds pad them) and tolerates ragged rows.
+/// Opens a CSV reader that tolerates ragged rows. It does not trim: the csv crate's trimming
+/// builds a new record per row, so callers trim fields themselves (real feeds pad them).
 pub fn csv_reader<R: Read>(r: R) -> csv::Reader<R> {
-    csv::ReaderBuilder::new().flexible(true).trim(csv::Trim::All).from_reader(r)
+    csv::ReaderBuilder::new().flexible(true).buffer_capacity(1 << 16).from_reader(r)
 }
 
 /// Header names with a leading UTF-8 byte-order mark removed.
@@ -77,11 +78,11 @@ pub fn read_table<T: DeserializeOwned>(
     let headers = clean_headers(feed, file, rdr.headers())?;
     require_columns(feed, file, &headers, required)?;
     let header_rec = csv::StringRecord::from(headers.clone());
-    let mut rec = csv::StringRecord::new();
+    let (mut raw, mut rec) = (csv::StringRecord::new(), csv::StringRecord::new());
     let mut good = 0usize;
     loop {
         let line = rdr.position().line();
-        match rdr.read_record(&mut rec) {
+        match rdr.read_record(&mut raw) {
             Ok(false) => break,
             Ok(true) => {}
             Err(e) => {
@@ -99,7 +100,9 @@ pub fn read_table<T: DeserializeOwned>(
                 continue;
             }
         }
-        let line = rec.position().map(|p| p.line()).unwrap_or(line);
+        let line = raw.position().map(|p| p.line()).unwrap_or(line);
+        rec.clear();
+        raw.iter().for_each(|f| rec.push_field(f.trim()));
 
         if rec.iter().all(str::is_empty) {
             continue;
