@@ -97,9 +97,9 @@ pub struct Sketch {
 
 /// Earliest arrival per stop, for reach ("what can be reached in 45 minutes").
 #[derive(Debug, Clone, Serialize)]
-pub struct Reach {
-    pub stop_id: String,
-    pub name: String,
+pub struct Reach<'a> {
+    pub stop_id: &'a str,
+    pub name: &'a str,
     pub arrive_s: u32,
     pub minutes: u32,
 }
@@ -420,14 +420,14 @@ impl Engine {
     }
 
     /// The same as a list of the platforms reached, earliest first.
-    pub fn reach(&mut self, from: &str, date: &str, time: &str, step_free: StepFree, limit_min: u32) -> Result<Vec<Reach>, QueryError> {
+    pub fn reach(&mut self, from: &str, date: &str, time: &str, step_free: StepFree, limit_min: u32) -> Result<Vec<Reach<'_>>, QueryError> {
         let depart_s = self.reach_search(from, date, time, step_free, limit_min)?;
         let arr = &self.state.stop_arrivals()[..self.tt.stops.len()];
         let mut out: Vec<Reach> = arr
             .iter()
             .enumerate()
             .filter(|(i, &a)| a != u32::MAX && self.tt.stops[*i].kind == StopKind::Platform)
-            .map(|(i, &a)| Reach { stop_id: self.tt.stops[i].id.clone(), name: self.tt.stops[i].name.clone(), arrive_s: a, minutes: (a - depart_s).div_ceil(60) })
+            .map(|(i, &a)| Reach { stop_id: &self.tt.stops[i].id, name: &self.tt.stops[i].name, arrive_s: a, minutes: (a - depart_s).div_ceil(60) })
             .collect();
         out.sort_by_key(|r| r.arrive_s);
         Ok(out)
