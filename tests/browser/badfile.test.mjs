@@ -113,7 +113,7 @@ test('a row with a bad value: error or warning names file, line and field', asyn
 });
 
 /** A valid but large feed (GTFS Schedule reference files), so that loading it takes a while. */
-function bigFeed(trips = 24000, stopsPerTrip = 16) {
+function bigFeed(trips = 48000, stopsPerTrip = 16) {
   const stops = ['stop_id,stop_name,stop_lat,stop_lon'];
   for (let i = 0; i < 400; i++) stops.push(`B${i},Bulk stop ${i},${(52.3 + (i % 20) * 0.002).toFixed(4)},${(13.3 + Math.floor(i / 20) * 0.003).toFixed(4)}`);
   const tripRows = ['route_id,service_id,trip_id'];
@@ -140,12 +140,29 @@ function bigFeed(trips = 24000, stopsPerTrip = 16) {
 test('cancelling a load restarts the engine and keeps the feeds loaded before', async () => {
   const { page } = rec;
   await h.pickFiles(page, [['bulk-feed.zip', bigFeed()]]);
-  // Wait until the engine is inside the load (a stage from its progress callback), then cancel.
-  await page.waitForFunction(() => /unzipping|parsing|building/i.test(document.querySelector('#loads .load-stage')?.textContent || ''), null, { timeout: 20000 });
-  const stage = await page.textContent('#loads .load-stage');
-  await h.shot(page, 'desktop-loading');
-  await page.click('#cancel-load');
+  // Cancel as soon as the engine is inside the load (a stage from its progress callback): in the
+  // page itself, since the load takes well under a second and a click sent from here could
+  // land after it.
+  const stage = await page.evaluate(
+    () =>
+      new Promise((resolve, reject) => {
+        const until = performance.now() + 20000;
+        const look = () => {
+          const text = document.querySelector('#loads .load-stage')?.textContent || '';
+          if (/unzipping|parsing|building/i.test(text)) {
+            document.getElementById('cancel-load').click();
+            resolve(text);
+          } else if (performance.now() > until) {
+            reject(new Error(`no load stage shown within 20 s (stage text: "${text}")`));
+          } else {
+            requestAnimationFrame(look);
+          }
+        };
+        look();
+      }),
+  );
   await page.waitForSelector('html[data-loading="no"]', { timeout: 60000 });
+  await h.shot(page, 'desktop-load-cancelled');
   await page.waitForFunction(() => /cancelled/.test(document.getElementById('status').textContent));
   const names = await page.$$eval('#feed-list .feed-name', (els) => els.map((e) => e.textContent).sort());
   assert.deepEqual(names, ['oskerveld-city', 'oskerveld-rail'], `after cancelling at stage "${stage}"`);
