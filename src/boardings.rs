@@ -42,19 +42,20 @@ pub struct Patterns {
 impl Patterns {
     pub fn build(net: &Network) -> Patterns {
         let stops = net.stop_first.len().saturating_sub(1);
-        let mut ids: HashMap<Vec<StopIdx>, u32> = HashMap::new();
+        let event_stops: Vec<StopIdx> = net.events.iter().map(|ev| ev.stop).collect();
+        let mut ids: HashMap<&[StopIdx], u32> = HashMap::new();
         let mut out = Patterns { first: vec![0], ..Patterns::default() };
-        let mut seq = Vec::new();
+        let mut start = 0usize;
         for e in 0..net.events() {
-            seq.push(net.stop(e));
             if net.flags(e) & LAST_OF_TRIP == 0 {
                 continue;
             }
+            let seq = &event_stops[start..=e];
+            start = e + 1;
             let next = ids.len() as u32;
-            if let std::collections::hash_map::Entry::Vacant(v) = ids.entry(std::mem::take(&mut seq)) {
-                out.stops.extend_from_slice(v.key());
+            if *ids.entry(seq).or_insert(next) == next {
+                out.stops.extend_from_slice(seq);
                 out.first.push(out.stops.len() as u32);
-                v.insert(next);
             }
         }
         let mut count = vec![0u32; stops + 1];
