@@ -315,47 +315,81 @@ impl Landmarks {
         active
     }
 
-    /// Lower bound on the cost from `s` to `t` from the active landmarks (`UNREACHABLE` when `s`
-    /// cannot reach `t`).
-    #[inline]
-    pub fn bound(&self, active: &Active, s: StopIdx, t: StopIdx) -> u32 {
-        let mut h = 0;
+    /// Stop `a` with its distances from and to the active landmarks, read once per query so
+    /// that each bound after reads only the other stop's row.
+    pub fn anchor(&self, active: &Active, a: StopIdx) -> Anchor {
+        let mut out = Anchor::default();
+        let Some(ra) = self.rows.get(a.idx()) else { return out };
         for &i in &active.which[..active.n] {
-            h = h.max(self.bound_by(i as usize, s, t));
-            if h == UNREACHABLE {
-                break;
-            }
+            out.which[out.n] = i;
+            out.from_l[out.n] = ra[2 * i as usize];
+            out.to_l[out.n] = ra[2 * i as usize + 1];
+            out.n += 1;
+        }
+        out
+    }
+
+    /// Lower bound on the cost from `s` to the anchor's stop (`UNREACHABLE` when `s` cannot
+    /// reach it).
+    #[inline]
+    pub fn bound_to(&self, a: &Anchor, s: StopIdx) -> u32 {
+        let Some(rs) = self.rows.get(s.idx()) else { return 0 };
+        let mut h = 0;
+        for k in 0..a.n {
+            let i = a.which[k] as usize;
+            h = h.max(pair_bound(rs[2 * i], a.from_l[k], rs[2 * i + 1], a.to_l[k]));
         }
         h
     }
 
-    /// Lower bound on the cost from the nearest of `origins` to `s` (0 with no origin).
+    /// Lower bound on the cost from the anchor's stop to `s`.
     #[inline]
-    pub fn bound_from(&self, active: &Active, origins: &[StopIdx], s: StopIdx) -> u32 {
-        origins.iter().map(|&o| self.bound(active, o, s)).min().unwrap_or(0)
+    pub fn bound_from(&self, a: &Anchor, s: StopIdx) -> u32 {
+        let Some(rs) = self.rows.get(s.idx()) else { return 0 };
+        let mut h = 0;
+        for k in 0..a.n {
+            let i = a.which[k] as usize;
+            h = h.max(pair_bound(a.from_l[k], rs[2 * i], a.to_l[k], rs[2 * i + 1]));
+        }
+        h
     }
 
     #[inline]
     fn bound_by(&self, i: usize, s: StopIdx, t: StopIdx) -> u32 {
         let (Some(rs), Some(rt)) = (self.rows.get(s.idx()), self.rows.get(t.idx())) else { return 0 };
-        let mut h = 0;
-        // d(s, t) ≥ d(L, t) − d(L, s)
-        let (ls, lt) = (rs[2 * i], rt[2 * i]);
-        if lt != UNREACHABLE && ls != UNREACHABLE && lt > ls {
-            h = lt - ls;
-        }
-        // d(s, t) ≥ d(s, L) − d(t, L); s cannot reach L but t can: s cannot reach t.
-        let (sl, tl) = (rs[2 * i + 1], rt[2 * i + 1]);
-        if tl != UNREACHABLE {
-            if sl == UNREACHABLE {
-                return UNREACHABLE;
-            }
-            if sl > tl {
-                h = h.max(sl - tl);
-            }
-        }
-        h
+        pair_bound(rs[2 * i], rt[2 * i], rs[2 * i + 1], rt[2 * i + 1])
     }
+}
+
+/// Lower bound on `d(s, t)` from one landmark `L`, given `ls = d(L, s)`, `lt = d(L, t)`,
+/// `sl = d(s, L)`, `tl = d(t, L)`.
+#[inline]
+fn pair_bound(ls: u32, lt: u32, sl: u32, tl: u32) -> u32 {
+    let mut h = 0;
+    // d(s, t) ≥ d(L, t) − d(L, s)
+    if lt != UNREACHABLE && ls != UNREACHABLE && lt > ls {
+        h = lt - ls;
+    }
+    // d(s, t) ≥ d(s, L) − d(t, L); s cannot reach L but t can: s cannot reach t.
+    if tl != UNREACHABLE {
+        if sl == UNREACHABLE {
+            return UNREACHABLE;
+        }
+        if sl > tl {
+            h = h.max(sl - tl);
+        }
+    }
+    h
+}
+
+/// One stop of a query with its distances from (`from_l`) and to (`to_l`) the active
+/// landmarks `which`.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Anchor {
+    n: usize,
+    which: [u8; ACTIVE],
+    from_l: [u32; ACTIVE],
+    to_l: [u32; ACTIVE],
 }
 
 /// Landmarks used by one query.

@@ -19,7 +19,7 @@
 use serde::Serialize;
 
 use crate::boardings::Boardings;
-use crate::bounds::{Active, Landmarks, Prepared, Tentative, WalkKey, WalkLinks, UNREACHABLE};
+use crate::bounds::{Active, Anchor, Landmarks, Prepared, Tentative, WalkKey, WalkLinks, UNREACHABLE};
 use crate::network::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
 use crate::radix_heap::RadixHeap;
 use crate::timetable::{StopIdx, Timetable, WalkProfile, NO_DROP_OFF, NO_PICKUP};
@@ -156,8 +156,13 @@ pub struct SearchState {
     /// `max(K − π(s), landmark bound)`.
     exact: Vec<Tentative>,
     exact_key: u32,
+    /// The targets and the origins with their landmark distances (`Landmarks::anchor`).
+    target_anchors: Vec<Anchor>,
+    origin_anchors: Vec<Anchor>,
     /// Boardings bounds for the targets of the kept bounds.
     boardings: Boardings,
+    /// The entries of one change, found before they are relaxed (`Ctx::change`).
+    entering: Vec<Entering>,
     /// Buffers of the one-to-all sweep.
     sweep: crate::sweep::SweepBuffers,
     pub settled: u64,
@@ -391,13 +396,11 @@ struct Ctx<'a> {
     e: u32,
     /// Landmark tables, and the landmarks chosen for this query, when it is goal-directed.
     landmarks: Option<(&'a Landmarks, Active)>,
-    targets: &'a [StopIdx],
-    origins: &'a [StopIdx],
 }
 
 impl<'a> Ctx<'a> {
-    fn new(net: &'a Network, p: &'a Params, depart_s: u32, goal: Goal, landmarks: Option<(&'a Landmarks, Active)>, ends: &'a Endpoints) -> Self {
-        Ctx { net, p, mask: p.step_free.event_mask(), horizon: depart_s.saturating_add(p.max_duration_s), goal, e: net.events() as u32, landmarks, targets: &ends.targets, origins: &ends.origins }
+    fn new(net: &'a Network, p: &'a Params, depart_s: u32, goal: Goal, landmarks: Option<(&'a Landmarks, Active)>) -> Self {
+        Ctx { net, p, mask: p.step_free.event_mask(), horizon: depart_s.saturating_add(p.max_duration_s), goal, e: net.events() as u32, landmarks }
     }
 
     /// The record of stop `s` in this search, made fresh (with its bound) on first touch.
@@ -413,13 +416,13 @@ impl<'a> Ctx<'a> {
     fn fresh_mark(&self, st: &mut SearchState, s: StopIdx) {
         let h = match self.landmarks {
             None => 0,
-            Some((lm, act)) => {
+            Some((lm, _)) => {
                 let b = &mut st.bounds[s.idx()];
                 if b.0 != st.bound_gen {
-                    let alt = self.targets.iter().map(|&t| lm.bound(&act, s, t)).min().unwrap_or(0);
+                    let alt = st.target_anchors.iter().map(|a| lm.bound_to(a, s)).min().unwrap_or(0);
                     // A stop the backward A* touched carries its bound from the origins.
                     let kept = st.exact.get(s.idx()).filter(|x| x.stamp == st.bound_gen).map(|x| x.potential);
-                    let from_origin = kept.unwrap_or_else(|| lm.bound_from(&act, self.origins, s));
+                    let from_origin = kept.unwrap_or_else(|| bound_from(lm, &st.origin_anchors, s));
                     let far = if st.exact_key == UNREACHABLE { UNREACHABLE } else { st.exact_key.saturating_sub(from_origin) };
                     *b = (st.bound_gen, alt.max(far));
                 }
@@ -467,6 +470,16 @@ impl<'a> Ctx<'a> {
     /// Enters the waiting chain of `s` at the first departure at or after `t`.
     #[inline]
     fn enter(&self, st: &mut SearchState, layer_base: u32, s: StopIdx, t: u32, cost: u32, pred: u32) {
+        if let Some(x) = self.entry(st, layer_base, s, t, cost, pred) {
+            st.relax(x.node, x.cost, x.h, x.pred);
+        }
+    }
+
+    /// What [`Ctx::enter`] would relax, found without touching the node's label (a random read
+    /// into the largest array, whose miss the caller overlaps with other work): `None` when the
+    /// entry is dominated, bounded out or has no departure in time.
+    #[inline]
+    fn entry(&self, st: &mut SearchState, layer_base: u32, s: StopIdx, t: u32, cost: u32, pred: u32) -> Option<Entering> {
         // Entering at time t with cost c gives every later waiting node the cost
         // c − t + its time, so an earlier entry (time ≤ t) at no greater offset c − t dominates
         // this one and nothing would change: skip it before searching the departures. An entry
@@ -480,7 +493,7 @@ impl<'a> Ctx<'a> {
                 *en = Entry { stamp: gen, t: u32::MAX, off: u32::MAX };
             }
             if en.t <= t && en.off <= off {
-                return;
+                return None;
             }
             if t <= en.t && off <= en.off {
                 (en.t, en.off) = (t, off);
@@ -489,23 +502,20 @@ impl<'a> Ctx<'a> {
         let h1 = self.h_stop(st, s);
         let h = self.h_wait(st, s, h1);
         if h == UNREACHABLE || cost + h > st.best {
-            return;
-        }
-        let near = self.mark(st, s).last_pos;
-        // The departure found is usually at or near the hint: ask for its label now, so that
-        // cache miss overlaps the one of the departure search.
-        if let Some(l) = st.labels.get((layer_base + near) as usize) {
-            prefetch(l);
+            return None;
         }
         let m = self.mark(st, s);
-        let found = self.net.first_departure_near(s, t, near);
-        if let Some(p) = found {
-            m.last_pos = p;
-            let dep = self.net.by_stop_dep[p as usize];
-            if dep <= self.horizon {
-                st.relax(layer_base + p, cost + (dep - t), h, pred);
-            }
+        let p = self.net.first_departure_near(s, t, m.last_pos)?;
+        m.last_pos = p;
+        let dep = self.net.by_stop_dep[p as usize];
+        if dep > self.horizon {
+            return None;
         }
+        let node = layer_base + p;
+        if let Some(l) = st.labels.get(node as usize) {
+            prefetch(l);
+        }
+        Some(Entering { node, cost: cost + (dep - t), h, pred })
     }
 
     /// False when an earlier alighting at `s` (no later, at no greater offset) already did
@@ -533,9 +543,12 @@ impl<'a> Ctx<'a> {
     #[inline]
     fn change(&self, tt: &Timetable, st: &mut SearchState, walk: &WalkLinks, base: u32, node: u32, e2: usize, at: u32, rules: bool) {
         let (v, ta) = (self.net.stop(e2), self.net.arr(e2));
+        // Entries are found first and relaxed after, so the label misses of all of them overlap.
+        let mut entering = std::mem::take(&mut st.entering);
+        entering.clear();
         if !rules {
             if let Some(mt) = tt.stop_transfer_s(v, self.p.transfer_s()) {
-                self.enter(st, base, v, ta + mt, at + mt, node);
+                entering.extend(self.entry(st, base, v, ta + mt, at + mt, node));
             }
         }
         // Each link's entry has a key of at least `at + h(v)` plus the penalties of the boardings
@@ -558,8 +571,12 @@ impl<'a> Ctx<'a> {
                 prefetch(&st.entries[ahead.to.idx()]);
             }
             self.record_arrival(st, f.to, ta + f.walk_s);
-            self.enter(st, base, f.to, ta + f.walk_s, wc, node);
+            entering.extend(self.entry(st, base, f.to, ta + f.walk_s, wc, node));
         }
+        for x in &entering {
+            st.relax(x.node, x.cost, x.h, x.pred);
+        }
+        st.entering = entering;
     }
 
     fn sink_walk(&self, st: &mut SearchState, s: StopIdx) -> u32 {
@@ -571,6 +588,15 @@ impl<'a> Ctx<'a> {
             st.stop_arrival[s.idx()] = t;
         }
     }
+}
+
+/// A waiting node about to be relaxed from an entry into its stop's chain.
+#[derive(Debug, Clone, Copy)]
+struct Entering {
+    node: u32,
+    cost: u32,
+    h: u32,
+    pred: u32,
 }
 
 /// How many walking links ahead `change` asks for the stop records it will read.
@@ -643,17 +669,28 @@ fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, de
 fn goal_bounds<'a>(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &'a Prepared, ends: &Endpoints) -> Option<(&'a Landmarks, Active)> {
     let (Some(lm), Some(&o), Some(&t)) = (prep.landmarks.as_ref(), ends.origins.first(), ends.targets.first()) else { return None };
     let act = lm.select(o, t);
+    st.target_anchors.clear();
+    st.target_anchors.extend(ends.targets.iter().map(|&t| lm.anchor(&act, t)));
+    st.origin_anchors.clear();
+    st.origin_anchors.extend(ends.origins.iter().map(|&o| lm.anchor(&act, o)));
     if st.use_bounds_for(prep.key, ends, act) {
         st.boardings.compute(net.patterns(), &prep.walk, tt.stops.len(), &ends.targets);
         if st.exact.len() < tt.stops.len() {
             st.exact.resize(tt.stops.len(), Tentative::default());
         }
         let (bounds, gen) = (&mut st.bounds, st.bound_gen);
-        let from_origins = |s: usize| lm.bound_from(&act, &ends.origins, StopIdx(s as u32));
+        let anchors = &st.origin_anchors;
+        let from_origins = |s: usize| bound_from(lm, anchors, StopIdx(s as u32));
         st.exact_key = lm.exact_near(&ends.targets, &ends.origins, &mut st.heap, &mut st.exact, gen, from_origins, |s, d| bounds[s] = (gen, d));
         st.heap.clear();
     }
     Some((lm, act))
+}
+
+/// Lower bound on the cost from the nearest origin to `s` (0 with no origin).
+#[inline]
+fn bound_from(lm: &Landmarks, origins: &[Anchor], s: StopIdx) -> u32 {
+    origins.iter().map(|a| lm.bound_from(a, s)).min().unwrap_or(0)
 }
 
 /// The lower bound on the cost from every node to the sink that a point-to-point search from
@@ -663,7 +700,7 @@ pub fn node_bounds(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &E
     st.reset(net, tt.stops.len(), 1);
     let prep = st.take_prepared(tt, net, p.walk_key(net), true);
     let landmarks = goal_bounds(tt, net, st, &prep, ends);
-    let cx = Ctx::new(net, p, depart_s, Goal::Target, landmarks, ends);
+    let cx = Ctx::new(net, p, depart_s, Goal::Target, landmarks);
     let out = (0..2 * net.events() as u32 + 1)
         .map(|node| match decode(net, node).1 {
             Node::Wait(q) => {
@@ -683,7 +720,7 @@ pub fn node_bounds(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &E
 fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepared, ends: &Endpoints, depart_s: u32, p: &Params, layers: u32, goal: Goal) {
     let walk = &prep.walk;
     let landmarks = if goal == Goal::Target { goal_bounds(tt, net, st, prep, ends) } else { None };
-    let cx = Ctx::new(net, p, depart_s, goal, landmarks, ends);
+    let cx = Ctx::new(net, p, depart_s, goal, landmarks);
     // With one layer, the first sink label bounds every useful key; with several, each layer's
     // sink is wanted on its own.
     let prune_by_sink = layers == 1 && goal == Goal::Target;
