@@ -8,7 +8,8 @@
 //!   target), plus one source node per query whose edges copy the origin entry of `search::run`.
 //!   Only the `dijkstra` call is timed, and its cost at the target's arrival node must equal the
 //!   cost our search gives its sink (`search::run_to_target`, default [`Params`]). The two take
-//!   turns in blocks of ten queries, so each runs with its own data in cache.
+//!   turns, twice over: in turns of 100 queries, so each runs with its own data in cache as it
+//!   would on its own (the verdict), and in turns of 10 (see `PG_TURNS`).
 //! - **a plain Connection Scan** (connections of the network sorted by departure; the same
 //!   minimum change time at a stop, `Params::default().transfer_s()` or the feed's rule, and the
 //!   same walking links, `tt.walk(WalkProfile::Standard)`, after alighting and from the origin).
@@ -460,13 +461,26 @@ struct Baselines {
     pg_nodes: usize,
     pg_edges: usize,
     pg_bytes: usize,
-    pg_queries: usize,
-    pg_skipped_unreached: usize,
-    ours_dijkstra: Dist,
-    ours_dijkstra_sum: f64,
+    /// In long turns (`PG_TURNS[0]`, the verdict's) and in short ones.
+    pg_runs: Vec<PgRun>,
+}
+
+/// One run of the petgraph comparison, the two sides taking turns of `turn` queries.
+struct PgRun {
+    turn: usize,
+    queries: usize,
+    skipped_unreached: usize,
+    ours: Dist,
+    ours_sum: f64,
     pg: Dist,
     pg_sum: f64,
-    pg_disagree: Vec<String>,
+    disagree: Vec<String>,
+}
+
+impl PgRun {
+    fn ratio(&self) -> f64 {
+        self.pg.median / self.ours.median.max(1e-9)
+    }
 }
 
 struct Report {
@@ -658,8 +672,13 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
     }
 }
 
-/// Queries per block of the petgraph comparison (see `baselines`).
-const PG_BLOCK: usize = 10;
+/// Queries per turn in the two runs of the petgraph comparison. Long turns let each side run
+/// with its own data in cache, as it would on its own: petgraph's graph is ≈ 1 GB, and each of its
+/// turns sweeps ours (≈ 170 MB of network, labels and tables) out of every cache, so in turns of
+/// ten most of our queries start cold (measured in DEVELOPERS.md). Short turns share the machine's
+/// drift more closely and show the cold figure. The verdict is on the long turns; both are
+/// printed.
+const PG_TURNS: [usize; 2] = [100, 10];
 
 fn baselines(preset: Preset, tt: &Timetable, net: &Network, st: &mut SearchState, qs: &[Query]) -> Baselines {
     let p0 = Params { transfer_penalty_s: 0, ..Params::default() };
@@ -717,47 +736,7 @@ fn baselines(preset: Preset, tt: &Timetable, net: &Network, st: &mut SearchState
     let pg_build_s = t.elapsed().as_secs_f64();
     let (pg_nodes, pg_edges, pg_bytes) = (pg.g.node_count(), pg.g.edge_count(), pg.bytes());
     eprintln!("[{preset}] petgraph: {pg_nodes} nodes, {pg_edges} edges, built in {pg_build_s:.1} s; {n_pg} queries");
-    let mut ours_d = Vec::new();
-    let mut pg_d = Vec::new();
-    let mut pg_disagree = Vec::new();
-    let mut skipped = 0;
-    // Block by block: ours on a block of queries, then petgraph on the ones we answered. Each
-    // side runs with its own data in cache, as it would on its own (petgraph's graph is ≈ 1 GB, so
-    // alternating query by query has our search start every query from a cache petgraph just
-    // swept); blocks this short still share the machine's drift.
-    for block in qs.chunks(PG_BLOCK) {
-        let mut answered = Vec::new();
-        for q in block {
-            if pg_d.len() + answered.len() >= n_pg {
-                break;
-            }
-            let e = ends(q);
-            let t = Instant::now();
-            search::run_to_target(tt, net, st, &e, q.depart_s, &std_p);
-            let dt = ms(t.elapsed());
-            match st.cost_of(st.sink(0)) {
-                Some(ours) => answered.push((q, dt, ours)),
-                None => skipped += 1,
-            }
-        }
-        if pg_d.len() >= n_pg {
-            break;
-        }
-        for (q, dt, ours) in answered {
-            let src = pg.add_source(tt, net, &std_p, q);
-            let goal = pg.arrival_base + q.to.0;
-            let t = Instant::now();
-            let scores = petgraph::algo::dijkstra(&pg.g, src, Some(goal), |e| *e.weight());
-            let dpg = ms(t.elapsed());
-            let theirs = scores.get(&goal).map(|c| c + q.depart_s);
-            drop(scores);
-            ours_d.push(dt);
-            pg_d.push(dpg);
-            if Some(ours) != theirs {
-                pg_disagree.push(format!("{}: search cost {ours}, petgraph {theirs:?}", describe(tt, q)));
-            }
-        }
-    }
+    let pg_runs = PG_TURNS.iter().map(|&turn| pg_run(tt, net, st, &mut pg, &std_p, qs, n_pg, turn)).collect();
     Baselines {
         csa_build_s,
         csa_bytes: csa.bytes(),
@@ -774,14 +753,53 @@ fn baselines(preset: Preset, tt: &Timetable, net: &Network, st: &mut SearchState
         pg_nodes,
         pg_edges,
         pg_bytes,
-        pg_queries: pg_d.len(),
-        pg_skipped_unreached: skipped,
-        ours_dijkstra: dist(&ours_d),
-        ours_dijkstra_sum: ours_d.iter().sum(),
-        pg: dist(&pg_d),
-        pg_sum: pg_d.iter().sum(),
-        pg_disagree,
+        pg_runs,
     }
+}
+
+/// Our search and petgraph's on the first `n` queries we answer (an unanswered query would make
+/// petgraph settle the whole rest of the day, having no time limit), in turns of `turn` queries:
+/// ours on a turn's queries, then petgraph on the ones we answered.
+#[allow(clippy::too_many_arguments)]
+fn pg_run(tt: &Timetable, net: &Network, st: &mut SearchState, pg: &mut PgGraph, p: &Params, qs: &[Query], n: usize, turn: usize) -> PgRun {
+    let mut ours_d = Vec::new();
+    let mut pg_d = Vec::new();
+    let mut disagree = Vec::new();
+    let mut skipped = 0;
+    for block in qs.chunks(turn) {
+        let mut answered = Vec::new();
+        for q in block {
+            if pg_d.len() + answered.len() >= n {
+                break;
+            }
+            let e = ends(q);
+            let t = Instant::now();
+            search::run_to_target(tt, net, st, &e, q.depart_s, p);
+            let dt = ms(t.elapsed());
+            match st.cost_of(st.sink(0)) {
+                Some(ours) => answered.push((q, dt, ours)),
+                None => skipped += 1,
+            }
+        }
+        if pg_d.len() >= n {
+            break;
+        }
+        for (q, dt, ours) in answered {
+            let src = pg.add_source(tt, net, p, q);
+            let goal = pg.arrival_base + q.to.0;
+            let t = Instant::now();
+            let scores = petgraph::algo::dijkstra(&pg.g, src, Some(goal), |e| *e.weight());
+            let dpg = ms(t.elapsed());
+            let theirs = scores.get(&goal).map(|c| c + q.depart_s);
+            drop(scores);
+            ours_d.push(dt);
+            pg_d.push(dpg);
+            if Some(ours) != theirs {
+                disagree.push(format!("{}: search cost {ours}, petgraph {theirs:?}", describe(tt, q)));
+            }
+        }
+    }
+    PgRun { turn, queries: pg_d.len(), skipped_unreached: skipped, ours: dist(&ours_d), ours_sum: ours_d.iter().sum(), pg: dist(&pg_d), pg_sum: pg_d.iter().sum(), disagree }
 }
 
 // ------------------------------------------------------------------ tables
@@ -822,7 +840,7 @@ fn tables(reports: &[Report]) -> String {
             fmt_dist(r.options3),
             fmt_dist(r.strict),
             fmt_dist(r.one_to_all),
-            b.pg.median / b.ours_dijkstra.median.max(1e-9),
+            b.pg_runs[0].ratio(),
             b.ours_p0.median / b.csa.median.max(1e-9),
         );
     }
@@ -832,7 +850,9 @@ fn tables(reports: &[Report]) -> String {
     let _ = writeln!(s, "|---|---|---|---|---|---|---|---|");
     for r in reports {
         let b = &r.base;
-        let _ = writeln!(s, "| {} | `search::run_to_target` vs petgraph `dijkstra` (CSR, {} nodes, {} edges; penalty 300 s; turns of 10 queries) | {} (+{} unanswered skipped) | {} | {} | petgraph {:.1}× slower | {:.1}× | {} |", r.preset, b.pg_nodes, b.pg_edges, b.pg_queries, b.pg_skipped_unreached, fmt_dist(b.ours_dijkstra), fmt_dist(b.pg), b.pg.median / b.ours_dijkstra.median.max(1e-9), b.pg_sum / b.ours_dijkstra_sum.max(1e-9), b.pg_disagree.len());
+        for g in &b.pg_runs {
+            let _ = writeln!(s, "| {} | `search::run_to_target` vs petgraph `dijkstra` (CSR, {} nodes, {} edges; penalty 300 s; turns of {} queries) | {} (+{} unanswered skipped) | {} | {} | petgraph {:.1}× slower | {:.1}× | {} |", r.preset, b.pg_nodes, b.pg_edges, g.turn, g.queries, g.skipped_unreached, fmt_dist(g.ours), fmt_dist(g.pg), g.ratio(), g.pg_sum / g.ours_sum.max(1e-9), g.disagree.len());
+        }
         let _ = writeln!(s, "| {} | `search::earliest` (penalty 0) vs Connection Scan | {} | {} | {} | ours {:.2}× CSA's time | — | {} |", r.preset, b.csa_queries, fmt_dist(b.ours_p0), fmt_dist(b.csa), b.ours_p0.median / b.csa.median.max(1e-9), b.csa_disagree.len());
         let _ = writeln!(s, "| {} | `search::one_to_all` (4 h) vs Connection Scan one-to-all | {} | {} | {} | ours {:.2}× CSA's time | — | {} queries ({} stop arrivals) |", r.preset, b.o2a_queries, fmt_dist(b.ours_o2a), fmt_dist(b.csa_o2a), b.ours_o2a.median / b.csa_o2a.median.max(1e-9), b.o2a_disagree.len(), b.o2a_stops_disagree);
     }
@@ -882,20 +902,21 @@ fn tables(reports: &[Report]) -> String {
         let b = &m.base;
         let graph_b = m.net_bytes as f64 / m.net_events.max(1) as f64;
         let tt_b = m.tt_event_bytes as f64 / m.tt_events.max(1) as f64;
-        let speedup = b.pg.median / b.ours_dijkstra.median.max(1e-9);
+        let (long, short) = (&b.pg_runs[0], &b.pg_runs[b.pg_runs.len() - 1]);
         let _ = writeln!(s, "\n#### Targets (metro, native)\n");
         let _ = writeln!(s, "| target | measured | |");
         let _ = writeln!(s, "|---|---|---|");
         let _ = writeln!(s, "| earliest arrival with transfer penalty ≤ 3 ms (median) | {} ms | {} |", fmt_ms(m.earliest.median), verdict(m.earliest.median <= 3.0));
         let _ = writeln!(s, "| routing structures ≤ 24 B per stop event: the date's graph (`Network::bytes() / events()`) | {graph_b:.1} B | {} |", verdict(graph_b <= 24.0));
         let _ = writeln!(s, "| routing structures ≤ 24 B per stop event: the timetable (`event_bytes() / stop_events()`) | {tt_b:.1} B | {} |", verdict(tt_b <= 24.0));
-        let _ = writeln!(s, "| ≥ 10× faster than petgraph on the same graph (median) | {speedup:.1}× | {} |", verdict(speedup >= 10.0));
+        let _ = writeln!(s, "| ≥ 10× faster than petgraph on the same graph (median; turns of {} queries) | {:.1}× (in turns of {}, where most of our queries start with caches petgraph swept: {:.1}×) | {} |", long.turn, long.ratio(), short.turn, short.ratio(), verdict(long.ratio() >= 10.0));
         let _ = writeln!(s, "\nPublished marks for context (Dibbelt, Pajor, Strasser, Wagner, \"Connection Scan Algorithm\", 2017, Table 4; ~20.8k stops, 4.85 M connections, their hardware): time-expanded Dijkstra 29.3 ms, CSA 1.2 ms. Here: our time-expanded Dijkstra (penalty 0) {} ms, our plain CSA {} ms (medians).", fmt_ms(b.ours_p0.median), fmt_ms(b.csa.median));
     }
 
     for r in reports {
         let b = &r.base;
-        for (what, list) in [("petgraph", &b.pg_disagree), ("CSA earliest", &b.csa_disagree), ("CSA one-to-all", &b.o2a_disagree)] {
+        let pg_disagree: Vec<String> = b.pg_runs.iter().flat_map(|g| g.disagree.iter().cloned()).collect();
+        for (what, list) in [("petgraph", &pg_disagree), ("CSA earliest", &b.csa_disagree), ("CSA one-to-all", &b.o2a_disagree)] {
             if list.is_empty() {
                 continue;
             }

@@ -44,6 +44,11 @@ const SETTLED: u32 = 1 << 31;
 /// ALT (common practice, no source); measured here in DEVELOPERS.md.
 pub const LANDMARKS: usize = 16;
 pub const ACTIVE: usize = 8;
+/// Of the active landmarks, how many the backward A* of [`Landmarks::exact_near`] is guided by
+/// (the best for the query's pair): a weaker guide settles more stops there, but leaves a larger
+/// `K − π(s)` bound on the stops it did not settle, and the search settles fewer nodes (measured
+/// in DEVELOPERS.md).
+pub const EXACT_ACTIVE: usize = 4;
 
 static NEXT_ID: AtomicU64 = AtomicU64::new(1);
 
@@ -301,7 +306,7 @@ impl Landmarks {
         UNREACHABLE
     }
 
-    /// The `ACTIVE` landmarks that bound the cost from `s` to `t` best: a query uses only these,
+    /// The `ACTIVE` landmarks that bound the cost from `s` to `t` best, best first: a query uses only these,
     /// so each stop it touches costs a few reads, while the table keeps a landmark behind most
     /// targets (the usual ALT practice of choosing landmarks per query, Goldberg and Harrelson).
     pub fn select(&self, s: StopIdx, t: StopIdx) -> Active {
@@ -397,6 +402,14 @@ pub struct Anchor {
 pub struct Active {
     n: usize,
     which: [u8; ACTIVE],
+}
+
+impl Active {
+    /// The best `k` of them.
+    pub fn first(mut self, k: usize) -> Active {
+        self.n = self.n.min(k);
+        self
+    }
 }
 
 /// Landmarks spread over the area: farthest-point selection on stops with departures, starting

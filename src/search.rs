@@ -19,7 +19,7 @@
 use serde::Serialize;
 
 use crate::boardings::Boardings;
-use crate::bounds::{Active, Anchor, Landmarks, Prepared, Tentative, WalkKey, WalkLinks, UNREACHABLE};
+use crate::bounds::{Active, Anchor, Landmarks, EXACT_ACTIVE, Prepared, Tentative, WalkKey, WalkLinks, UNREACHABLE};
 use crate::network::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
 use crate::radix_heap::RadixHeap;
 use crate::timetable::{StopIdx, Timetable, WalkProfile, NO_DROP_OFF, NO_PICKUP};
@@ -672,7 +672,7 @@ fn goal_bounds<'a>(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &'
     st.target_anchors.clear();
     st.target_anchors.extend(ends.targets.iter().map(|&t| lm.anchor(&act, t)));
     st.origin_anchors.clear();
-    st.origin_anchors.extend(ends.origins.iter().map(|&o| lm.anchor(&act, o)));
+    st.origin_anchors.extend(ends.origins.iter().map(|&o| lm.anchor(&act.first(EXACT_ACTIVE), o)));
     if st.use_bounds_for(prep.key, ends, act) {
         st.boardings.compute(net.patterns(), &prep.walk, tt.stops.len(), &ends.targets);
         if st.exact.len() < tt.stops.len() {
@@ -747,8 +747,18 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
     let mut sinks_left = layers;
     while let Some((key, node)) = st.heap.pop() {
         if let Some(next) = st.heap.next_value() {
-            if let Some(l) = st.labels.get((next & !DEFERRED) as usize) {
+            let n = next & !DEFERRED;
+            if let Some(l) = st.labels.get(n as usize) {
                 prefetch(l);
+            }
+            // What settling it reads first: a waiting node's event, a ride node's next event.
+            let local = n % per;
+            if local < cx.e {
+                if let Some(ev) = net.by_stop.get(local as usize) {
+                    prefetch(ev);
+                }
+            } else if let Some(ev) = net.events.get((local - cx.e) as usize + 1) {
+                prefetch(ev);
             }
         }
         if node & DEFERRED != 0 {
