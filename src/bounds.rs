@@ -306,9 +306,10 @@ impl Landmarks {
         UNREACHABLE
     }
 
-    /// The `ACTIVE` landmarks that bound the cost from `s` to `t` best, best first: a query uses only these,
-    /// so each stop it touches costs a few reads, while the table keeps a landmark behind most
-    /// targets (the usual ALT practice of choosing landmarks per query, Goldberg and Harrelson).
+    /// The `ACTIVE` landmarks that bound the cost from `s` to `t` best, best first: a query uses
+    /// only these, so each stop it touches costs a few reads, while the table keeps a landmark
+    /// behind most targets (the usual ALT practice of choosing landmarks per query, Goldberg and
+    /// Harrelson).
     pub fn select(&self, s: StopIdx, t: StopIdx) -> Active {
         let mut scored: Vec<(u32, u8)> = (0..self.landmarks.len()).map(|i| (self.bound_by(i, s, t), i as u8)).collect();
         scored.sort_unstable_by(|a, b| b.cmp(a));
