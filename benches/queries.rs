@@ -37,9 +37,9 @@ use chrono::NaiveDate;
 use criterion::Criterion;
 use petgraph::csr::Csr;
 use timeweave::engine::{Engine, PlanQuery};
-use timeweave::network::{Network, LAST_OF_TRIP};
-use timeweave::search::{self, decode, Endpoints, Node, Params, SearchState, StepFree};
-use timeweave::synth::{self, Preset};
+use timeweave::graph::{Network, LAST_OF_TRIP};
+use timeweave::route::search::{self, decode, Endpoints, Node, Params, SearchState, StepFree};
+use timeweave_synth::{self, Preset};
 use timeweave::timetable::calendar::clock_to_seconds;
 use timeweave::timetable::{FootpathSet, StopIdx, StopKind, Timetable, WalkProfile, NO_DROP_OFF, NO_PICKUP};
 
@@ -547,7 +547,7 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
     let peak_reset = reset_peak_rss();
     let mut engine = Engine::new();
     let t = Instant::now();
-    engine.load_path(&path, &mut |_, _| {}).unwrap_or_else(|e| panic!("loading {}: {:?}", path.display(), e.0));
+    timeweave_disk::load_feed(&mut engine, &path, &mut |_, _| {}).unwrap_or_else(|e| panic!("loading {}: {:?}", path.display(), e.0));
     let load_s = t.elapsed().as_secs_f64();
     let t = Instant::now();
     let net = Network::build(&engine.tt, date);

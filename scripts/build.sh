@@ -4,9 +4,9 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 scripts/setup.sh
 
-cargo build --release --bin timeweave
-cargo build --lib --target wasm32-unknown-unknown --profile release-wasm
-wasm-bindgen --target web --no-typescript --out-dir www/pkg target/wasm32-unknown-unknown/release-wasm/timeweave.wasm
+cargo build --release -p timeweave-cli --bin timeweave
+cargo build -p timeweave-wasm --lib --target wasm32-unknown-unknown --profile release-wasm
+wasm-bindgen --target web --no-typescript --out-name timeweave --out-dir www/pkg target/wasm32-unknown-unknown/release-wasm/timeweave_wasm.wasm
 # wasm-opt from npm's binaryen: Debian's (version 108) cannot parse what current rustc emits.
 WASM_OPT=tests/browser/node_modules/.bin/wasm-opt
 if [ -x "$WASM_OPT" ] && [ "${TIMEWEAVE_NO_WASM_OPT:-}" != 1 ]; then

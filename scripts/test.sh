@@ -4,7 +4,7 @@
 set -euo pipefail
 cd "$(dirname "$0")/.."
 scripts/build.sh
-cargo test --release
+cargo test --release --workspace
 if [ -d tests/browser ] && ls tests/browser/*.test.mjs >/dev/null 2>&1; then
   node --test --test-concurrency=1 tests/browser/
 fi

@@ -7,9 +7,9 @@ use serde::{Deserialize, Serialize};
 use unicode_normalization::UnicodeNormalization;
 
 use crate::error::{FeedError, QueryError};
-use crate::itinerary::{Builder, Itinerary};
-use crate::network::Network;
-use crate::search::{self, Endpoints, Journey, Params, SearchState, StepFree};
+use crate::journey::{Builder, Itinerary};
+use crate::graph::Network;
+use crate::route::search::{self, Endpoints, Journey, Params, SearchState, StepFree};
 use crate::timetable::calendar::{clock_to_seconds, parse_clock, parse_date};
 use crate::timetable::{Access, FeedMeta, StopIdx, StopKind, Timetable, WalkConfig};
 
@@ -129,15 +129,17 @@ impl Engine {
         self.names = self.tt.stops.iter().map(|s| normalise(&s.name)).collect();
     }
 
-    pub fn load_zip(&mut self, name: &str, bytes: &[u8], progress: crate::ingest::Progress) -> Result<&FeedMeta, FeedError> {
-        let name = crate::ingest::unique_name(&self.tt, name);
-        let idx = crate::ingest::load_zip(&mut self.tt, &name, bytes, &self.walk_cfg, progress)?;
+    pub fn load_zip(&mut self, name: &str, bytes: &[u8], progress: crate::feed::Progress) -> Result<&FeedMeta, FeedError> {
+        let name = crate::feed::unique_name(&self.tt, name);
+        let idx = crate::feed::load_zip(&mut self.tt, &name, bytes, &self.walk_cfg, progress)?;
         self.loaded();
         Ok(&self.tt.feeds[idx.idx()])
     }
 
-    pub fn load_path(&mut self, path: &std::path::Path, progress: crate::ingest::Progress) -> Result<&FeedMeta, FeedError> {
-        let idx = crate::ingest::load_path(&mut self.tt, path, &self.walk_cfg, progress)?;
+    /// Loads a feed whose files a shell provides (a folder, say) under `name` (made unique).
+    pub fn load_source(&mut self, name: &str, source: &mut dyn crate::feed::FeedSource, progress: crate::feed::Progress) -> Result<&FeedMeta, FeedError> {
+        let name = crate::feed::unique_name(&self.tt, name);
+        let idx = crate::feed::load_source(&mut self.tt, &name, source, &self.walk_cfg, progress)?;
         self.loaded();
         Ok(&self.tt.feeds[idx.idx()])
     }

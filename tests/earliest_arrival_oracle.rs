@@ -21,8 +21,8 @@ use proptest::prelude::*;
 use proptest::sample::Index;
 use proptest::test_runner::TestRunner;
 use support::{hms, query, Feed};
-use timeweave::network::Network;
-use timeweave::search::{self, Endpoints, Params, SearchState};
+use timeweave::graph::Network;
+use timeweave::route::search::{self, Endpoints, Params, SearchState};
 use timeweave::timetable::StopIdx;
 
 const DATE: &str = "2026-05-12";

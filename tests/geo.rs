@@ -7,8 +7,8 @@ mod support;
 use std::f64::consts::PI;
 
 use support::{plan, query, Feed};
-use timeweave::itinerary::LegKind;
-use timeweave::search::{Params, StepFree};
+use timeweave::journey::LegKind;
+use timeweave::route::search::{Params, StepFree};
 use timeweave::timetable::walking::{haversine_m, WalkConfig};
 use timeweave::timetable::WalkProfile;
 

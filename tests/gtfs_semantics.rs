@@ -8,8 +8,8 @@ mod support;
 
 use chrono::{NaiveDate, TimeZone, Utc};
 use support::{departures, plan, query, Feed};
-use timeweave::itinerary::LegKind;
-use timeweave::search::StepFree;
+use timeweave::journey::LegKind;
+use timeweave::route::search::StepFree;
 use timeweave::timetable::calendar::{clock_to_seconds, day_origin, seconds_to_clock};
 use timeweave::timetable::Access;
 
@@ -391,14 +391,14 @@ fn transfer_feed(trips: &[&str], transfers: Option<&str>) -> Feed {
     }
 }
 
-fn arrival(feed: Feed) -> (String, timeweave::itinerary::Itinerary) {
+fn arrival(feed: Feed) -> (String, timeweave::journey::Itinerary) {
     let mut engine = feed.load();
     let r = plan(&mut engine, &query("O", "D", "2026-06-10", "07:55"), StepFree::Off);
     let it = r.itineraries.first().unwrap_or_else(|| panic!("no journey: {r:?}")).clone();
     (it.arrive.clone(), it)
 }
 
-fn walks_between(it: &timeweave::itinerary::Itinerary, a: &str, b: &str) -> bool {
+fn walks_between(it: &timeweave::journey::Itinerary, a: &str, b: &str) -> bool {
     it.legs.iter().any(|l| l.kind != LegKind::Ride && l.from.stop_id == a && l.to.stop_id == b)
 }
 
@@ -611,7 +611,7 @@ fn stop_times_rows_in_any_order_give_the_same_journeys_and_warnings() {
     let answer = |order: &[usize]| {
         let dir = feed(order).write_dir();
         let mut engine = timeweave::engine::Engine::new();
-        let meta = engine.load_path(dir.path(), &mut |_, _| {}).unwrap_or_else(|e| panic!("{order:?}: {e}"));
+        let meta = timeweave_disk::load_feed(&mut engine, dir.path(), &mut |_, _| {}).unwrap_or_else(|e| panic!("{order:?}: {e}"));
         let mut warnings: Vec<String> = meta.warnings.issues.iter().map(|w| w.message.clone()).collect();
         warnings.sort();
         // The warning names the file's line of the row at Z (line 1 is the header).

@@ -15,9 +15,9 @@ mod support;
 use chrono::NaiveDate;
 use petgraph::graph::{Graph, NodeIndex};
 use support::{hms, Feed};
-use timeweave::bounds::UNREACHABLE;
-use timeweave::network::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
-use timeweave::search::{self, decode, node_time, Endpoints, Node, Params, SearchState, StepFree};
+use timeweave::route::bounds::UNREACHABLE;
+use timeweave::graph::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
+use timeweave::route::search::{self, decode, node_time, Endpoints, Node, Params, SearchState, StepFree};
 use timeweave::timetable::{StopIdx, Timetable, NO_DROP_OFF};
 use timeweave::Engine;
 
@@ -373,8 +373,8 @@ fn one_to_all_sweep_arrivals_equal_petgraph_reachability() {
 /// a bound stuck low would fail.
 #[test]
 fn boardings_bounds_never_exceed_the_fewest_boardings_petgraph_finds() {
-    use timeweave::boardings::Boardings;
-    use timeweave::bounds::WalkLinks;
+    use timeweave::route::boardings::Boardings;
+    use timeweave::route::bounds::WalkLinks;
     let engine: Engine = line_feed(0xB0A2_2026).load();
     let tt = &engine.tt;
     let net = Network::build(tt, NaiveDate::from_ymd_opt(2026, 6, 10).expect("date"));

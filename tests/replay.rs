@@ -26,7 +26,7 @@ use proptest::test_runner::{Config, TestRunner};
 use support::replay::replay;
 use support::{hms, Feed};
 use timeweave::engine::{Engine, PlanQuery};
-use timeweave::search::{Params, StepFree};
+use timeweave::route::search::{Params, StepFree};
 use timeweave::timetable::StopIdx;
 
 const DATE: &str = "2026-05-13";
@@ -250,9 +250,9 @@ fn check_case(c: &Case) -> Result<(), TestCaseError> {
             let (from, to) = (engine.endpoints_of(idx[q.from]), engine.endpoints_of(idx[q.to]));
             for it in &r.itineraries {
                 ITINERARIES.fetch_add(1, Ordering::Relaxed);
-                WALK_LEGS.fetch_add(it.legs.iter().filter(|l| l.kind != timeweave::itinerary::LegKind::Ride).count(), Ordering::Relaxed);
+                WALK_LEGS.fetch_add(it.legs.iter().filter(|l| l.kind != timeweave::journey::LegKind::Ride).count(), Ordering::Relaxed);
                 PATHWAY_STEPS.fetch_add(it.legs.iter().map(|l| l.path.len()).sum(), Ordering::Relaxed);
-                CHANGES.fetch_add(it.legs.iter().filter(|l| l.kind == timeweave::itinerary::LegKind::Ride).count().saturating_sub(1), Ordering::Relaxed);
+                CHANGES.fetch_add(it.legs.iter().filter(|l| l.kind == timeweave::journey::LegKind::Ride).count().saturating_sub(1), Ordering::Relaxed);
                 if let Err(m) = replay(&engine.tt, date, t0, &p, &from, &to, it) {
                     return Err(TestCaseError::fail(format!("{m}\nquery {pq:?}\nitinerary {}", serde_json::to_string_pretty(it).unwrap_or_default())));
                 }
@@ -302,7 +302,7 @@ fn itineraries_replay_and_first_arrival_matches_connection_scan() {
 #[test]
 fn replay_rejects_tampered_itineraries() {
     use support::badfeeds::{base_files, BASE_LAT};
-    use timeweave::itinerary::LegKind;
+    use timeweave::journey::LegKind;
     let mut e = Engine::new();
     e.load_zip("base", &base_files(BASE_LAT).zip(), &mut |_, _| {}).expect("base feed");
     let q = PlanQuery { from: "A".into(), to: "D".into(), date: "2026-06-03".into(), time: "07:50".into(), ..PlanQuery::default() };
@@ -341,7 +341,7 @@ fn replay_rejects_tampered_itineraries() {
     // marked 1, so the same ride replays under strict rules; after marking T1 not accessible it
     // must not.
     let strict = Params::new(StepFree::Strict);
-    let rides_only = timeweave::itinerary::Itinerary { legs: it.legs[..=ride].to_vec(), arrive_s: it.legs[ride].arrive_s, ..it.clone() };
+    let rides_only = timeweave::journey::Itinerary { legs: it.legs[..=ride].to_vec(), arrive_s: it.legs[ride].arrive_s, ..it.clone() };
     let at_c = e.endpoints_of(e.resolve("C").expect("C"));
     replay(&e.tt, date, t0, &strict, &from, &at_c, &rides_only).expect("accessible ride replays under strict rules");
     let t1 = e.tt.trips.iter().position(|t| t.id == "T1").expect("T1");

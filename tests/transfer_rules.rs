@@ -2,7 +2,7 @@
 mod support;
 
 use support::{plan, query, Feed};
-use timeweave::search::StepFree;
+use timeweave::route::search::StepFree;
 
 /// Stops A → X on trip T1 (arrives 08:10), then X → B on T2 (leaves 08:15) or T3 (leaves 08:30).
 fn feed(transfers: &str) -> Feed {

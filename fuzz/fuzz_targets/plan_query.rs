@@ -13,7 +13,7 @@ fn engine() -> &'static Mutex<Engine> {
         let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../demo-data");
         let mut e = Engine::new();
         for feed in ["oskerveld-city", "oskerveld-rail"] {
-            e.load_path(&root.join(feed), &mut |_, _| {}).expect("demo feed loads");
+            timeweave_disk::load_feed(&mut e, &root.join(feed), &mut |_, _| {}).expect("demo feed loads");
         }
         Mutex::new(e)
     })

@@ -4,7 +4,7 @@
 //! Stop events of a trip are stored contiguously in trip order (`ev_*` arrays, struct of arrays),
 //! so a trip is a `first_event..first_event+len` range and "staying seated" is "the next index".
 //! Times are seconds from the trip's service-day origin (noon minus 12 h, GTFS Schedule reference),
-//! so they may exceed 24 h. The timetable is date-independent; [`crate::network::Network`] picks
+//! so they may exceed 24 h. The timetable is date-independent; [`crate::graph::Network`] picks
 //! the trips of one service date.
 
 pub mod calendar;

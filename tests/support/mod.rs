@@ -1,17 +1,16 @@
 //! A tiny GTFS feed builder for the integration tests.
 //!
 //! A [`Feed`] is a list of named `.txt` files held as text. It is written to a fresh folder under
-//! the system temp directory (removed again when the [`TempDir`] guard drops) or zipped in memory,
-//! and loaded through the engine's public API (`Engine::load_path` / `Engine::load_zip`), so every
+//! the system temp directory (removed again when the `tempfile` guard drops) or zipped in memory,
+//! and loaded the way the shells load feeds (`timeweave_disk::load_feed` / `Engine::load_zip`), so every
 //! test goes through the same ingest path as the CLI and the page.
 #![allow(dead_code)]
 
 use std::io::{Cursor, Write};
 use std::path::{Path, PathBuf};
-use std::sync::atomic::{AtomicUsize, Ordering};
 
 use timeweave::engine::{Engine, PlanQuery, PlanResult};
-use timeweave::search::StepFree;
+use timeweave::route::search::StepFree;
 
 /// GTFS files by name, in the order they were added.
 #[derive(Debug, Clone, Default)]
@@ -39,17 +38,13 @@ impl Feed {
         self.file("routes.txt", "route_id,agency_id,route_short_name,route_long_name,route_type\nR,TA,1,Test line,3\n")
     }
 
-    /// Writes the files into a new, empty folder.
-    pub fn write_dir(&self) -> TempDir {
-        static COUNTER: AtomicUsize = AtomicUsize::new(0);
-        let n = COUNTER.fetch_add(1, Ordering::Relaxed);
-        let nanos = std::time::SystemTime::now().duration_since(std::time::UNIX_EPOCH).map(|d| d.subsec_nanos()).unwrap_or(0);
-        let dir = std::env::temp_dir().join(format!("timeweave-test-{}-{n}-{nanos}", std::process::id()));
-        std::fs::create_dir_all(&dir).expect("create temp feed folder");
+    /// Writes the files into a new, empty temporary folder (removed when the guard drops).
+    pub fn write_dir(&self) -> tempfile::TempDir {
+        let dir = tempfile::Builder::new().prefix("timeweave-test-").tempdir().expect("create temp feed folder");
         for (name, text) in &self.files {
-            std::fs::write(dir.join(name), text).expect("write feed file");
+            std::fs::write(dir.path().join(name), text).expect("write feed file");
         }
-        TempDir(dir)
+        dir
     }
 
     /// The files as a deflated zip archive in memory.
@@ -63,11 +58,11 @@ impl Feed {
         w.finish().expect("zip finish").into_inner()
     }
 
-    /// A new engine with this feed loaded from a folder (`Engine::load_path`).
+    /// A new engine with this feed loaded from a folder (`timeweave_disk::load_feed`).
     pub fn load(&self) -> Engine {
         let dir = self.write_dir();
         let mut engine = Engine::new();
-        if let Err(e) = engine.load_path(dir.path(), &mut |_, _| {}) {
+        if let Err(e) = timeweave_disk::load_feed(&mut engine, dir.path(), &mut |_, _| {}) {
             panic!("test feed did not load: {e}");
         }
         engine
@@ -83,20 +78,6 @@ impl Feed {
     }
 }
 
-/// A temporary folder, removed when dropped.
-pub struct TempDir(PathBuf);
-
-impl TempDir {
-    pub fn path(&self) -> &Path {
-        &self.0
-    }
-}
-
-impl Drop for TempDir {
-    fn drop(&mut self) {
-        let _ = std::fs::remove_dir_all(&self.0);
-    }
-}
 
 /// A planning query with the given fields and defaults for the rest.
 pub fn query(from: &str, to: &str, date: &str, time: &str) -> PlanQuery {

@@ -15,8 +15,8 @@
 #![allow(dead_code)]
 
 use chrono::{Duration, NaiveDate};
-use timeweave::itinerary::{Itinerary, LegKind, Place};
-use timeweave::search::{Params, StepFree};
+use timeweave::journey::{Itinerary, LegKind, Place};
+use timeweave::route::search::{Params, StepFree};
 use timeweave::timetable::calendar::origin_offset_s;
 use timeweave::timetable::walking::haversine_m;
 use timeweave::timetable::{Access, PathwayMode, StopIdx, Timetable, TransferRule, NO_DROP_OFF, NO_PICKUP};

@@ -5,7 +5,7 @@ use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
 use timeweave::engine::{Engine, PlanQuery, PlanResult};
-use timeweave::search::StepFree;
+use timeweave::route::search::StepFree;
 
 #[derive(Parser)]
 #[command(name = "timeweave", version, about = "Journey planning and service connectivity over GTFS timetables")]
@@ -120,7 +120,7 @@ enum Command {
 fn load(feeds: &[PathBuf], quiet: bool) -> Result<Engine, String> {
     let mut engine = Engine::new();
     for f in feeds {
-        let meta = engine.load_path(f, &mut |_, _| {}).map_err(|e| format!("error: {e}"))?;
+        let meta = timeweave_disk::load_feed(&mut engine, f, &mut |_, _| {}).map_err(|e| format!("error: {e}"))?;
         if !quiet && meta.warnings.total > 0 {
             eprintln!("{}: {} warnings (run `timeweave check` to list them)", meta.name, meta.warnings.total);
         }
@@ -233,13 +233,13 @@ fn run(cli: Cli) -> Result<(), String> {
             Ok(())
         }
         Command::Synth { preset, seed, out } => {
-            let preset: timeweave::synth::Preset = preset.parse().map_err(|e| format!("error: {e}"))?;
+            let preset: timeweave_synth::Preset = preset.parse().map_err(|e| format!("error: {e}"))?;
             let file = std::fs::File::create(&out).map_err(|e| format!("error: cannot create {}: {e}", out.display()))?;
-            let stats = timeweave::synth::write_feed(preset, seed, std::io::BufWriter::new(file)).map_err(|e| format!("error: {e}"))?;
+            let stats = timeweave_synth::write_feed(preset, seed, std::io::BufWriter::new(file)).map_err(|e| format!("error: {e}"))?;
             println!("{}: {} stops, {} routes, {} trips, {} stop times, {} bytes", out.display(), stats.stops, stats.routes, stats.trips, stats.stop_times, stats.bytes);
             Ok(())
         }
-        Command::Serve { port, root, feeds } => timeweave::serve::serve(&root, port, &feeds).map_err(|e| format!("error: {e}")),
+        Command::Serve { port, root, feeds } => timeweave_serve::serve(&root, port, &feeds).map_err(|e| format!("error: {e}")),
     }
 }
 
@@ -264,7 +264,7 @@ fn present_plan(r: &PlanResult) -> String {
     for (i, it) in r.itineraries.iter().enumerate() {
         let _ = writeln!(out, "\nOption {}: {} → {}, {} min, {} ride{}, walk {} min, step-free: {:?}", i + 1, it.depart, it.arrive, it.duration_s / 60, it.rides, if it.rides == 1 { "" } else { "s" }, it.walk_s.div_ceil(60), it.step_free);
         for leg in &it.legs {
-            let place = |p: &timeweave::itinerary::Place| match &p.platform {
+            let place = |p: &timeweave::journey::Place| match &p.platform {
                 Some(pl) => format!("{} (platform {pl})", p.name),
                 None => p.name.clone(),
             };

@@ -17,73 +17,14 @@
 //! (each is `x ≤ y` or `x ≤ y + 1`, and both survive `min(·, c)`).
 //! Added to the landmark bound on the rest of the cost, the sum stays consistent.
 
-use std::collections::HashMap;
-
-use crate::bounds::WalkLinks;
-use crate::network::{Network, LAST_OF_TRIP};
+use crate::route::bounds::WalkLinks;
+use crate::graph::{Network, Patterns, LAST_OF_TRIP};
 use crate::timetable::StopIdx;
 
 /// Waiting counts boardings exactly up to here (more are bounded by `CAP + 1`), alighting up to
 /// `CAP − 1` (more by `CAP`): the last level's walking links, the costliest step, are left out.
 /// 2 settled the fewest nodes per unit of time on the metro preset (DEVELOPERS.md).
 pub const CAP: u8 = 2;
-
-/// The distinct stop sequences of a network, and where each stop appears in them.
-#[derive(Debug, Clone, Default)]
-pub struct Patterns {
-    /// Pattern `p` is `stops[first[p]..first[p + 1]]`.
-    first: Vec<u32>,
-    stops: Vec<StopIdx>,
-    /// Stop `s` appears at `(pattern, position)` for each item of `at[at_first[s]..at_first[s + 1]]`.
-    at_first: Vec<u32>,
-    at: Vec<(u32, u32)>,
-}
-
-impl Patterns {
-    pub fn build(net: &Network) -> Patterns {
-        let stops = net.stop_first.len().saturating_sub(1);
-        let event_stops: Vec<StopIdx> = net.events.iter().map(|ev| ev.stop).collect();
-        let mut ids: HashMap<&[StopIdx], u32> = HashMap::new();
-        let mut out = Patterns { first: vec![0], ..Patterns::default() };
-        let mut start = 0usize;
-        for e in 0..net.events() {
-            if net.flags(e) & LAST_OF_TRIP == 0 {
-                continue;
-            }
-            let seq = &event_stops[start..=e];
-            start = e + 1;
-            let next = ids.len() as u32;
-            if *ids.entry(seq).or_insert(next) == next {
-                out.stops.extend_from_slice(seq);
-                out.first.push(out.stops.len() as u32);
-            }
-        }
-        let mut count = vec![0u32; stops + 1];
-        out.stops.iter().for_each(|s| count[s.idx() + 1] += 1);
-        for s in 0..stops {
-            count[s + 1] += count[s];
-        }
-        out.at = vec![(0, 0); out.stops.len()];
-        let mut fill = count.clone();
-        for p in 0..out.first.len() - 1 {
-            for pos in out.first[p]..out.first[p + 1] {
-                let s = out.stops[pos as usize].idx();
-                out.at[fill[s] as usize] = (p as u32, pos - out.first[p]);
-                fill[s] += 1;
-            }
-        }
-        out.at_first = count;
-        out
-    }
-
-    pub fn count(&self) -> usize {
-        self.first.len() - 1
-    }
-
-    pub fn bytes(&self) -> usize {
-        (self.first.capacity() + self.at_first.capacity()) * 4 + self.stops.capacity() * 4 + self.at.capacity() * 8
-    }
-}
 
 /// Per-stop boardings bounds for one set of targets, with reusable buffers.
 #[derive(Debug, Default)]
@@ -117,10 +58,10 @@ impl Boardings {
             self.reached.clear();
             for i in 0..self.frontier.len() {
                 let s = self.frontier[i];
-                for &(p, pos) in &pat.at[pat.at_first[s.idx()] as usize..pat.at_first[s.idx() + 1] as usize] {
-                    let base = pat.first[p as usize];
+                for &(p, pos) in pat.at(s) {
+                    let seq = pat.stops_of(p);
                     for j in self.covered[p as usize]..pos {
-                        let u = pat.stops[(base + j) as usize];
+                        let u = seq[j as usize];
                         if self.wait[u.idx()] > level {
                             self.wait[u.idx()] = level;
                             self.reached.push(u);

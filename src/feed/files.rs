@@ -1,9 +1,9 @@
-//! Where a feed's files come from: a zip archive in memory (the browser only has bytes) or a
-//! folder. The archive is checked against [`Limits`] from its central directory before anything is
+//! Where a feed's files come from: a zip archive in memory (the browser only has bytes) or any
+//! other [`FeedSource`] a shell provides (the command line's folder of `.txt` files). The core
+//! knows no file system. The archive is checked against [`Limits`] from its central directory before anything is
 //! expanded, and every read is capped again, since declared sizes can lie.
 
 use std::io::{Cursor, Read};
-use std::path::{Path, PathBuf};
 
 use crate::error::FeedIssue;
 
@@ -23,9 +23,19 @@ impl Default for Limits {
     }
 }
 
+/// A feed's files as a shell provides them (a folder, say): names are bare file names such as
+/// `stops.txt`. Every read is capped at the feed's size limit by the core.
+pub trait FeedSource {
+    /// True when the feed has this file.
+    fn has(&self, name: &str) -> bool;
+    /// Opens one file, or `None` when the feed does not have it. The error text names the file
+    /// and the cause; the core adds the feed's name.
+    fn open(&mut self, name: &str) -> Result<Option<Box<dyn Read + '_>>, String>;
+}
+
 pub enum FeedFiles<'a> {
     Zip { archive: zip::ZipArchive<Cursor<&'a [u8]>>, names: Vec<(String, usize)>, limit: u64 },
-    Dir { root: PathBuf, limit: u64 },
+    Source { source: &'a mut dyn FeedSource, limit: u64 },
 }
 
 impl<'a> FeedFiles<'a> {
@@ -41,7 +51,7 @@ impl<'a> FeedFiles<'a> {
             if entry.is_dir() {
                 continue;
             }
-            let Some(base) = Path::new(entry.name()).file_name().and_then(|n| n.to_str()).map(str::to_string) else { continue };
+            let Some(base) = entry.name().rsplit(['/', '\\']).next().filter(|n| !n.is_empty()).map(str::to_string) else { continue };
             if !base.ends_with(".txt") || names.iter().any(|(n, _)| n == &base) {
                 continue;
             }
@@ -58,17 +68,14 @@ impl<'a> FeedFiles<'a> {
         Ok(FeedFiles::Zip { archive, names, limit: limits.max_total_bytes })
     }
 
-    pub fn from_dir(feed: &str, root: &Path, limits: &Limits) -> Result<Self, FeedIssue> {
-        if !root.is_dir() {
-            return Err(FeedIssue::new(feed, format!("{} is not a folder", root.display())));
-        }
-        Ok(FeedFiles::Dir { root: root.to_path_buf(), limit: limits.max_total_bytes })
+    pub fn from_source(source: &'a mut dyn FeedSource, limits: &Limits) -> Self {
+        FeedFiles::Source { source, limit: limits.max_total_bytes }
     }
 
     pub fn has(&self, name: &str) -> bool {
         match self {
             FeedFiles::Zip { names, .. } => names.iter().any(|(n, _)| n == name),
-            FeedFiles::Dir { root, .. } => root.join(name).is_file(),
+            FeedFiles::Source { source, .. } => source.has(name),
         }
     }
 
@@ -81,13 +88,12 @@ impl<'a> FeedFiles<'a> {
                 let entry = archive.by_index(i).map_err(|e| FeedIssue::new(feed, format!("cannot expand {name}: {e}")).file(name))?;
                 Ok(Some(Box::new(Capped { inner: entry, left: limit, feed: feed.to_string(), name: name.to_string() })))
             }
-            FeedFiles::Dir { root, limit } => {
-                let path = root.join(name);
-                if !path.is_file() {
-                    return Ok(None);
+            FeedFiles::Source { source, limit } => {
+                let limit = *limit;
+                match source.open(name).map_err(|e| FeedIssue::new(feed, e).file(name))? {
+                    Some(r) => Ok(Some(Box::new(Capped { inner: r, left: limit, feed: feed.to_string(), name: name.to_string() }))),
+                    None => Ok(None),
                 }
-                let f = std::fs::File::open(&path).map_err(|e| FeedIssue::new(feed, format!("cannot open {}: {e}", path.display())).file(name))?;
-                Ok(Some(Box::new(Capped { inner: std::io::BufReader::new(f), left: *limit, feed: feed.to_string(), name: name.to_string() })))
             }
         }
     }

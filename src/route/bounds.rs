@@ -29,10 +29,9 @@
 //! it. So A* keys never decrease, the radix heap stays valid, and every node the search settles
 //! carries its exact Dijkstra cost.
 
-use std::sync::atomic::{AtomicU64, Ordering};
 
-use crate::network::{Network, LAST_OF_TRIP};
-use crate::radix_heap::RadixHeap;
+use crate::graph::{csr, Network, LAST_OF_TRIP};
+use crate::route::radix_heap::RadixHeap;
 use crate::timetable::{StopIdx, Timetable, WalkProfile};
 
 /// Bound of a stop that cannot reach the target.
@@ -49,13 +48,6 @@ pub const ACTIVE: usize = 8;
 /// `K − π(s)` bound on the stops it did not settle, and the search settles fewer nodes (measured
 /// in DEVELOPERS.md).
 pub const EXACT_ACTIVE: usize = 4;
-
-static NEXT_ID: AtomicU64 = AtomicU64::new(1);
-
-/// A process-unique id, so caches can tell one built network from another.
-pub fn next_id() -> u64 {
-    NEXT_ID.fetch_add(1, Ordering::Relaxed)
-}
 
 /// The walking setting that prepared data depend on.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -78,7 +70,7 @@ pub struct Link {
 }
 
 /// A walking link seen from its end: where it starts and what it costs.
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone, Copy, Default)]
 pub struct InLink {
     pub from: StopIdx,
     pub cost_s: u32,
@@ -112,21 +104,9 @@ impl WalkLinks {
             out.first.push(out.links.len() as u32);
         }
         let n = tt.stops.len();
-        out.ending_first = vec![0; n + 1];
-        for l in &out.links {
-            out.ending_first[l.to.idx() + 1] += 1;
-        }
-        for i in 0..n {
-            out.ending_first[i + 1] += out.ending_first[i];
-        }
-        let mut slot = out.ending_first.clone();
-        out.ending = vec![InLink { from: StopIdx(0), cost_s: 0 }; out.links.len()];
-        for s in 0..n {
-            for l in &out.links[out.first[s] as usize..out.first[s + 1] as usize] {
-                out.ending[slot[l.to.idx()] as usize] = InLink { from: StopIdx(s as u32), cost_s: l.cost_s };
-                slot[l.to.idx()] += 1;
-            }
-        }
+        let first = &out.first;
+        let ending = (0..n).flat_map(|s| out.links[first[s] as usize..first[s + 1] as usize].iter().map(move |l| (l.to.0, InLink { from: StopIdx(s as u32), cost_s: l.cost_s })));
+        (out.ending_first, out.ending) = csr::group(n, ending);
         out
     }
 
@@ -158,14 +138,8 @@ impl StopGraph {
     fn from_edges(n: usize, mut edges: Vec<(u32, u32, u32)>) -> StopGraph {
         edges.sort_unstable();
         edges.dedup_by_key(|e| (e.0, e.1));
-        let mut first = vec![0u32; n + 1];
-        for e in &edges {
-            first[e.0 as usize + 1] += 1;
-        }
-        for i in 0..n {
-            first[i + 1] += first[i];
-        }
-        StopGraph { first, edges: edges.iter().map(|e| (e.1, e.2)).collect() }
+        let (first, edges) = csr::group(n, edges.iter().map(|e| (e.0, (e.1, e.2))));
+        StopGraph { first, edges }
     }
 
     /// Distances from `src` to every stop (`UNREACHABLE` where none).

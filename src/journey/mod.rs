@@ -7,8 +7,8 @@
 
 use serde::Serialize;
 
-use crate::network::Network;
-use crate::search::{access_walk_s, decode, is_boarding, Endpoints, Journey, Node, Params};
+use crate::graph::Network;
+use crate::route::search::{access_walk_s, decode, is_boarding, Endpoints, Journey, Node, Params};
 use crate::timetable::calendar::seconds_to_clock;
 use crate::timetable::walking::pathway_access;
 use crate::timetable::{Access, Footpath, StopIdx, StopKind, Timetable, WalkConfig};

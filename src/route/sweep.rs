@@ -16,8 +16,10 @@
 //! The result is the one Dijkstra on the same graph gives (`search::run_all`); a test checks
 //! it against that on random feeds.
 
-use crate::network::{Network, HAS_RULES, LAST_OF_TRIP};
-use crate::search::{flags_ok, rule_boardings, Params, SearchState};
+use crate::graph::{Network, HAS_RULES, LAST_OF_TRIP};
+use crate::route::bounds::WalkLinks;
+use crate::route::edges::{flags_ok, rule_boardings};
+use crate::route::query::Params;
 use crate::timetable::{StopIdx, Timetable, NO_DROP_OFF, NO_PICKUP};
 
 /// Per stop during a sweep.
@@ -66,13 +68,11 @@ fn gather(net: &Network, order: &[u32], from: usize, out: &mut [Ride; AHEAD]) ->
     n
 }
 
-/// Earliest arrival at every stop from the origins leaving at `depart_s`, within
-/// `p.max_duration_s` (u32::MAX: not reached).
-pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, origins: &[StopIdx], depart_s: u32, p: &Params) -> &'s [u32] {
-    let prep = st.take_prepared(tt, net, p.walk_key(net), false);
-    let walk = &prep.walk;
+/// Writes into `arrival` (one slot per stop) the earliest arrival at every stop from the
+/// origins leaving at `depart_s`, within `p.max_duration_s` (u32::MAX: not reached), walking
+/// the links of `walk` (prepared for `p`'s walking setting).
+pub(crate) fn one_to_all(tt: &Timetable, net: &Network, walk: &WalkLinks, buf: &mut SweepBuffers, arrival: &mut [u32], origins: &[StopIdx], depart_s: u32, p: &Params) {
     let n = tt.stops.len();
-    let (buf, arrival) = st.sweep_parts(n);
     buf.stops.clear();
     buf.stops.resize(n, FRESH);
     buf.on_board.clear();
@@ -161,8 +161,6 @@ pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, or
             again |= lower_entry(stops, f.to, at, t);
         }
     }
-    st.give_back(prep);
-    &st.stop_arrivals()[..n]
 }
 
 /// Lowers the entry time of `s` to `at`; true when that lands on the instant `now` being read.

@@ -17,14 +17,28 @@
 //! after that origin (night services past 24:00), and the next service day's trips that leave
 //! before [`NEXT_DAY_HORIZON_S`].
 
+use std::sync::atomic::{AtomicU64, Ordering};
+
 use chrono::{Duration, NaiveDate};
 use chrono_tz::Tz;
+
+pub mod csr;
+mod patterns;
+
+pub use patterns::Patterns;
 
 use crate::timetable::calendar::{day_origin, origin_offset_s};
 use crate::timetable::{Access, StopIdx, Timetable, TripIdx, NO_DROP_OFF, NO_PICKUP};
 
 /// The next day's trips that leave before this time on the date's timeline are included: 30 h,
 /// i.e. 06:00 of the next day.
+static NEXT_ID: AtomicU64 = AtomicU64::new(1);
+
+/// A process-unique id, so caches can tell one built network from another.
+pub fn next_id() -> u64 {
+    NEXT_ID.fetch_add(1, Ordering::Relaxed)
+}
+
 pub const NEXT_DAY_HORIZON_S: i64 = 30 * 3600;
 
 /// Flags per network event (in addition to the timetable's pickup/drop-off bits).
@@ -87,13 +101,13 @@ pub struct Network {
     rides_by_time: std::sync::OnceLock<Vec<u32>>,
     /// The distinct stop sequences, built on the first goal-directed search (search data, like
     /// the landmark tables, so not counted in [`Network::bytes`]).
-    patterns: std::sync::OnceLock<crate::boardings::Patterns>,
+    patterns: std::sync::OnceLock<Patterns>,
 }
 
 impl Network {
     pub fn build(tt: &Timetable, date: NaiveDate) -> Network {
         let tz = tt.feeds.first().map(|f| f.timezone).unwrap_or(chrono_tz::UTC);
-        let mut net = Network { id: crate::bounds::next_id(), date, tz, instances: Vec::new(), events: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), by_stop_dep: Vec::new(), trips_today: 0, rides_by_time: Default::default(), patterns: Default::default() };
+        let mut net = Network { id: next_id(), date, tz, instances: Vec::new(), events: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), by_stop_dep: Vec::new(), trips_today: 0, rides_by_time: Default::default(), patterns: Default::default() };
         let days = [date - Duration::days(1), date, date + Duration::days(1)];
         // Per feed and day: offset of that service day's origin, and which services run.
         let mut runs: Vec<[bool; 3]> = vec![[false; 3]; tt.services.len()];
@@ -147,22 +161,10 @@ impl Network {
                 }
             }
         }
-        // Departures per stop, by counting sort on stop then a sort by time within each stop.
+        // Departures per stop, grouped by stop, then sorted by time within each stop.
         let n_stops = tt.stops.len();
-        let mut count = vec![0u32; n_stops + 1];
-        for ev in &net.events {
-            count[ev.stop.idx() + 1] += 1;
-        }
-        for i in 0..n_stops {
-            count[i + 1] += count[i];
-        }
-        net.stop_first = count.clone();
-        let mut by_stop = vec![0u32; net.events.len()];
-        for (e, ev) in net.events.iter().enumerate() {
-            let slot = &mut count[ev.stop.idx()];
-            by_stop[*slot as usize] = e as u32;
-            *slot += 1;
-        }
+        let (stop_first, mut by_stop) = csr::group(n_stops, net.events.iter().enumerate().map(|(e, ev)| (ev.stop.0, e as u32)));
+        net.stop_first = stop_first;
         for s in 0..n_stops {
             let r = net.stop_first[s] as usize..net.stop_first[s + 1] as usize;
             by_stop[r].sort_unstable_by_key(|&e| (net.dep(e as usize), e));
@@ -263,8 +265,8 @@ impl Network {
 
     /// Events that leave on a ride, in order of departure (ties by event, so a trip's rides at
     /// one instant keep their order along the trip).
-    pub fn patterns(&self) -> &crate::boardings::Patterns {
-        self.patterns.get_or_init(|| crate::boardings::Patterns::build(self))
+    pub fn patterns(&self) -> &Patterns {
+        self.patterns.get_or_init(|| Patterns::build(self))
     }
 
     pub fn rides_by_time(&self) -> &[u32] {

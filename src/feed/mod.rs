@@ -1,4 +1,4 @@
-//! Ingest: GTFS feed bytes or folders → rows → one feed's [`Timetable`], appended to the loaded
+//! The feed layer: GTFS bytes (a zip, or files a shell provides) → rows → one feed's [`Timetable`], appended to the loaded
 //! ones only when the whole feed has been read.
 //!
 //! The new feed is built in a timetable of its own and merged afterwards, so a feed that fails
@@ -11,7 +11,6 @@ pub mod files;
 pub mod table;
 
 use std::collections::HashMap;
-use std::path::Path;
 
 use chrono::NaiveDate;
 use chrono_tz::Tz;
@@ -22,7 +21,7 @@ use crate::error::{FeedError, FeedIssue, WarningLog};
 use crate::timetable::calendar::{parse_gtfs_date, Service};
 use crate::timetable::walking::{haversine_m, WalkConfig};
 use crate::timetable::*;
-pub use files::{FeedFiles, Limits};
+pub use files::{FeedFiles, FeedSource, Limits};
 use table::{parse_time, read_table};
 
 /// Called with a stage name and a fraction 0–1 of the whole load.
@@ -35,17 +34,11 @@ pub fn load_zip(tt: &mut Timetable, name: &str, bytes: &[u8], walk: &WalkConfig,
     load_files(tt, name, files, walk, progress)
 }
 
-/// Loads a feed from a zip file or a folder of .txt files.
-pub fn load_path(tt: &mut Timetable, path: &Path, walk: &WalkConfig, progress: Progress) -> Result<FeedIdx, FeedError> {
-    let name = unique_name(tt, path.file_stem().and_then(|s| s.to_str()).unwrap_or("feed"));
+/// Loads a feed from a [`FeedSource`] a shell provides (a folder, say) and appends it to `tt`.
+/// On error `tt` is unchanged.
+pub fn load_source(tt: &mut Timetable, name: &str, source: &mut dyn FeedSource, walk: &WalkConfig, progress: Progress) -> Result<FeedIdx, FeedError> {
     progress("reading", 0.0);
-    if path.is_dir() {
-        let files = FeedFiles::from_dir(&name, path, &Limits::default()).map_err(FeedError)?;
-        load_files(tt, &name, files, walk, progress)
-    } else {
-        let bytes = std::fs::read(path).map_err(|e| FeedError(FeedIssue::new(&name, format!("cannot read {}: {e}", path.display()))))?;
-        load_zip(tt, &name, &bytes, walk, progress)
-    }
+    load_files(tt, name, FeedFiles::from_source(source, &Limits::default()), walk, progress)
 }
 
 /// `base`, or `base-2`, `base-3`… when a loaded feed already has that name.

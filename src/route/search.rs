@@ -7,8 +7,8 @@
 //! the first" among journeys that ride at all; a walk-only journey is compared separately.
 //!
 //! Point-to-point searches are goal-directed (A*): a node's key is its cost plus a lower bound on
-//! the cost still to go (time from [`crate::bounds`]: exact on the stop graph near the query,
-//! landmarks elsewhere; penalties from [`crate::boardings`]), and once the sink has a
+//! the cost still to go (time from [`crate::route::bounds`]: exact on the stop graph near the query,
+//! landmarks elsewhere; penalties from [`crate::route::boardings`]), and once the sink has a
 //! label nothing with a greater key is pushed. The bound is consistent, so settled nodes keep
 //! their exact Dijkstra costs. One-to-all searches run undirected.
 //!
@@ -16,111 +16,14 @@
 //! first search with a new walking setting (its prepared links and tables); buffers are reused
 //! and reset by generation stamps.
 
-use serde::Serialize;
-
-use crate::boardings::Boardings;
-use crate::bounds::{Active, Anchor, Landmarks, EXACT_ACTIVE, Prepared, Tentative, WalkKey, WalkLinks, UNREACHABLE};
-use crate::network::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
-use crate::radix_heap::RadixHeap;
-use crate::timetable::{StopIdx, Timetable, WalkProfile, NO_DROP_OFF, NO_PICKUP};
-
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize, Default)]
-#[serde(rename_all = "snake_case")]
-pub enum StepFree {
-    #[default]
-    Off,
-    /// Only elements marked accessible (1).
-    Strict,
-    /// Also elements whose accessibility is unknown (0 or empty); such legs are flagged.
-    Lenient,
-}
-
-impl StepFree {
-    pub fn walk_profile(self) -> WalkProfile {
-        match self {
-            StepFree::Off => WalkProfile::Standard,
-            StepFree::Strict => WalkProfile::StepFreeStrict,
-            StepFree::Lenient => WalkProfile::StepFreeLenient,
-        }
-    }
-    pub(crate) fn event_mask(self) -> u8 {
-        match self {
-            StepFree::Off => 0,
-            StepFree::Strict => STEP_FREE_YES,
-            StepFree::Lenient => STEP_FREE_YES | STEP_FREE_UNKNOWN,
-        }
-    }
-}
-
-/// Routing parameters of one query, with the defaults and where they come from.
-#[derive(Debug, Clone, Serialize)]
-pub struct Params {
-    pub step_free: StepFree,
-    /// Walking speed, m/s. Default 1.3 (common practice, no source); step-free default 0.8
-    /// (common practice, no source: manual wheelchair users on level ground, recalled from memory).
-    pub walk_speed_mps: f64,
-    /// Longest single walking link, metres. Default 800 (common practice, no source).
-    pub max_walk_m: f64,
-    /// Added for each boarding after the first, s. Default 300 (common practice, no source).
-    pub transfer_penalty_s: u32,
-    /// Walking time is multiplied by this in the cost (1.0 = none).
-    pub walk_weight: f64,
-    /// Minimum time to change vehicles at the same stop, s. Default 60 (common practice, no source).
-    pub min_transfer_s: u32,
-    /// Extra change time for the step-free profile, s. Default 120 (common practice, no source).
-    pub step_free_extra_transfer_s: u32,
-    /// Journeys longer than this are not searched, s. Default 4 h.
-    pub max_duration_s: u32,
-}
-
-impl Params {
-    pub fn new(step_free: StepFree) -> Params {
-        Params {
-            step_free,
-            walk_speed_mps: if step_free == StepFree::Off { 1.3 } else { 0.8 },
-            max_walk_m: 800.0,
-            transfer_penalty_s: 300,
-            walk_weight: 1.0,
-            min_transfer_s: 60,
-            step_free_extra_transfer_s: 120,
-            max_duration_s: 4 * 3600,
-        }
-    }
-    /// What the prepared walking data of this setting on `net` are filed under.
-    pub fn walk_key(&self, net: &Network) -> WalkKey {
-        WalkKey { network: net.id, profile: self.step_free.walk_profile(), speed_mps: self.walk_speed_mps, max_walk_m: self.max_walk_m, weight: self.walk_weight }
-    }
-    pub fn transfer_s(&self) -> u32 {
-        self.min_transfer_s + if self.step_free == StepFree::Off { 0 } else { self.step_free_extra_transfer_s }
-    }
-}
-
-impl Default for Params {
-    fn default() -> Self {
-        Params::new(StepFree::Off)
-    }
-}
-
-/// Where a search starts and ends: stops reachable at no walking cost (a station's entrances or
-/// platforms, or one stop).
-#[derive(Debug, Clone)]
-pub struct Endpoints {
-    pub origins: Vec<StopIdx>,
-    pub targets: Vec<StopIdx>,
-}
-
-/// One journey as a path of graph nodes.
-#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
-pub struct Journey {
-    /// Nodes from the first waiting node to the sink (empty for a walk-only journey).
-    pub nodes: Vec<u32>,
-    pub arrival_s: u32,
-    /// Generalised cost, first boarding's penalty taken off.
-    pub cost_s: u32,
-    pub rides: u32,
-    /// Walk-only journey: origin, target, walking seconds.
-    pub direct_walk: Option<(StopIdx, StopIdx, u32)>,
-}
+use crate::route::boardings::Boardings;
+use crate::route::bounds::{Active, Anchor, Landmarks, EXACT_ACTIVE, Prepared, Tentative, WalkKey, WalkLinks, UNREACHABLE};
+use crate::graph::{Network, HAS_RULES, LAST_OF_TRIP};
+use crate::route::edges::{event_ok, rule_boardings};
+pub use crate::route::query::{Endpoints, Journey, Params, StepFree};
+use crate::route::radix_heap::RadixHeap;
+use crate::route::sweep::{self, SweepBuffers};
+use crate::timetable::{StopIdx, Timetable, NO_DROP_OFF, NO_PICKUP};
 
 /// Reusable buffers for searches on one network.
 #[derive(Debug, Default)]
@@ -164,7 +67,7 @@ pub struct SearchState {
     /// The entries of one change, found before they are relaxed (`Ctx::change`).
     entering: Vec<Entering>,
     /// Buffers of the one-to-all sweep.
-    sweep: crate::sweep::SweepBuffers,
+    sweep: SweepBuffers,
     pub settled: u64,
 }
 
@@ -307,13 +210,6 @@ impl SearchState {
     }
     pub fn sink(&self, layer: u32) -> u32 {
         layer * self.layer_nodes + self.layer_nodes - 1
-    }
-    /// The sweep's buffers and the per-stop arrivals it fills, sized for `stops`.
-    pub(crate) fn sweep_parts(&mut self, stops: usize) -> (&mut crate::sweep::SweepBuffers, &mut [u32]) {
-        if self.stop_arrival.len() < stops {
-            self.stop_arrival.resize(stops, u32::MAX);
-        }
-        (&mut self.sweep, &mut self.stop_arrival[..stops])
     }
     /// Earliest arrival per stop after a one-to-all search (sweep or `run_all`).
     pub fn stop_arrivals(&self) -> &[u32] {
@@ -612,46 +508,6 @@ fn prefetch<T>(x: &T) {
     };
     #[cfg(not(target_arch = "x86_64"))]
     let _ = x;
-}
-
-/// Boardings at the stop of event `e2` for a rider alighting there from a trip that a
-/// trip- or route-specific transfer rule names: each later departure is checked against the
-/// rules (`Timetable::change_s`) and boarded directly, instead of through the shared waiting chain
-/// (which cannot remember which trip the rider came from).
-pub(crate) fn rule_boardings(tt: &Timetable, net: &Network, p: &Params, horizon: u32, mask: u8, e2: usize, at: u32) -> Vec<(u32, u32)> {
-    let (v, ta) = (net.stop(e2), net.arr(e2));
-    let from_trip = net.instance_of(e2 as u32).trip;
-    let mut out = Vec::new();
-    let Some(start) = net.first_departure(v, ta) else { return out };
-    for pos in start..net.stop_first[v.idx() + 1] {
-        let dep = net.by_stop_dep[pos as usize];
-        if dep > horizon {
-            break;
-        }
-        let f = net.by_stop[pos as usize];
-        if f as usize == e2 || net.flags(f as usize) & (NO_PICKUP | LAST_OF_TRIP) != 0 || !event_ok(net, mask, f as usize) {
-            continue;
-        }
-        let to_trip = net.instance_of(f).trip;
-        if let Some(m) = tt.change_s(v, from_trip, to_trip, p.transfer_s()) {
-            if dep >= ta + m {
-                out.push((f, at + (dep - ta) + p.transfer_penalty_s));
-            }
-        }
-    }
-    out
-}
-
-/// True when event `e` may be used under the step-free mask (0: any).
-#[inline]
-pub(crate) fn event_ok(net: &Network, mask: u8, e: usize) -> bool {
-    flags_ok(net.flags(e), mask)
-}
-
-/// [`event_ok`] on an event's flags already read.
-#[inline]
-pub(crate) fn flags_ok(flags: u8, mask: u8) -> bool {
-    mask == 0 || flags & mask != 0
 }
 
 fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params, layers: u32, goal: Goal) {
@@ -1034,7 +890,19 @@ pub fn pareto(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoi
     out
 }
 
-pub use crate::sweep::one_to_all;
+/// Earliest arrival at every stop from the origins leaving at `depart_s`, within
+/// `p.max_duration_s` (u32::MAX: not reached), by the one-to-all sweep ([`sweep`]); the
+/// arrivals also stay in `st` ([`SearchState::stop_arrivals`]).
+pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, origins: &[StopIdx], depart_s: u32, p: &Params) -> &'s [u32] {
+    let prep = st.take_prepared(tt, net, p.walk_key(net), false);
+    let n = tt.stops.len();
+    if st.stop_arrival.len() < n {
+        st.stop_arrival.resize(n, u32::MAX);
+    }
+    sweep::one_to_all(tt, net, &prep.walk, &mut st.sweep, &mut st.stop_arrival[..n], origins, depart_s, p);
+    st.give_back(prep);
+    &st.stop_arrival[..n]
+}
 
 /// Runs a target search and keeps all state, for tests that compare node costs.
 pub fn run_to_target(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) {

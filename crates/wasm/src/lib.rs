@@ -4,9 +4,9 @@
 use serde::Serialize;
 use wasm_bindgen::prelude::*;
 
-use crate::engine::{Engine as Core, PlanQuery};
-use crate::error::FeedIssue;
-use crate::timetable::FeedMeta;
+use timeweave::engine::{Engine as Core, PlanQuery};
+use timeweave::error::FeedIssue;
+use timeweave::timetable::FeedMeta;
 
 #[wasm_bindgen]
 pub struct Engine {
@@ -50,19 +50,19 @@ fn to_js<T: Serialize>(v: &T) -> Result<JsValue, JsValue> {
 struct QueryFailure {
     message: String,
     #[serde(flatten)]
-    detail: crate::error::QueryError,
+    detail: timeweave::error::QueryError,
 }
 
 /// A failed query as the JS error value: its message and its typed detail.
-fn failure(e: crate::error::QueryError) -> JsValue {
+fn failure(e: timeweave::error::QueryError) -> JsValue {
     to_js(&QueryFailure { message: e.to_string(), detail: e }).unwrap_or_else(|e| e)
 }
 
-fn step_free_of(strict: bool) -> crate::search::StepFree {
+fn step_free_of(strict: bool) -> timeweave::route::StepFree {
     if strict {
-        crate::search::StepFree::Strict
+        timeweave::route::StepFree::Strict
     } else {
-        crate::search::StepFree::Off
+        timeweave::route::StepFree::Off
     }
 }
 

@@ -1,0 +1,92 @@
+//! The file-system side of the native shells (the command line, later the Python package): a
+//! feed given as a path, a zip file or a folder of `.txt` files, loaded into the core through
+//! bytes or a [`FeedSource`]; and output files that appear whole or not at all.
+//!
+//! **Boundary:** the core crate knows no paths; this crate is where a path becomes bytes.
+
+use std::fs::File;
+use std::io::{self, BufReader, Read, Write};
+use std::path::{Path, PathBuf};
+
+use timeweave::error::{FeedError, FeedIssue};
+use timeweave::feed::{FeedSource, Progress};
+use timeweave::timetable::FeedMeta;
+use timeweave::Engine;
+
+/// A folder of GTFS `.txt` files.
+pub struct FolderSource {
+    root: PathBuf,
+}
+
+impl FolderSource {
+    pub fn new(root: &Path) -> FolderSource {
+        FolderSource { root: root.to_path_buf() }
+    }
+}
+
+impl FeedSource for FolderSource {
+    fn has(&self, name: &str) -> bool {
+        self.root.join(name).is_file()
+    }
+
+    fn open(&mut self, name: &str) -> Result<Option<Box<dyn Read + '_>>, String> {
+        let path = self.root.join(name);
+        if !path.is_file() {
+            return Ok(None);
+        }
+        let f = File::open(&path).map_err(|e| format!("cannot open {}: {e}", path.display()))?;
+        Ok(Some(Box::new(BufReader::new(f))))
+    }
+}
+
+/// The feed name a path stands for: its file stem (`city.zip` and `city/` are both `city`).
+pub fn feed_name(path: &Path) -> &str {
+    path.file_stem().and_then(|s| s.to_str()).unwrap_or("feed")
+}
+
+/// Loads a feed from a zip file or a folder of `.txt` files. On error the feeds loaded before
+/// stay loaded.
+pub fn load_feed<'e>(engine: &'e mut Engine, path: &Path, progress: Progress) -> Result<&'e FeedMeta, FeedError> {
+    let name = feed_name(path);
+    if path.is_dir() {
+        engine.load_source(name, &mut FolderSource::new(path), progress)
+    } else {
+        let bytes = std::fs::read(path).map_err(|e| FeedError(FeedIssue::new(name, format!("cannot read {}: {e}", path.display()))))?;
+        engine.load_zip(name, &bytes, progress)
+    }
+}
+
+/// Writes `path` whole or not at all: the bytes go to a temporary file in the same folder,
+/// which replaces `path` only once `write` has succeeded and the data are flushed. A failure
+/// leaves no partial file behind.
+pub fn write_atomically(path: &Path, write: impl FnOnce(&mut dyn Write) -> io::Result<()>) -> io::Result<()> {
+    let dir = path.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    let mut tmp = tempfile::NamedTempFile::new_in(dir)?;
+    {
+        let mut out = io::BufWriter::new(tmp.as_file_mut());
+        write(&mut out)?;
+        out.flush()?;
+    }
+    tmp.as_file().sync_all()?;
+    tmp.persist(path).map_err(|e| e.error)?;
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_failed_write_leaves_nothing() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("out.csv");
+        let r = write_atomically(&path, &mut |w: &mut dyn Write| {
+            w.write_all(b"half")?;
+            Err(io::Error::other("stopped"))
+        });
+        assert!(r.is_err());
+        assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0, "no partial or temporary file is left");
+        write_atomically(&path, &mut |w: &mut dyn Write| w.write_all(b"whole")).unwrap();
+        assert_eq!(std::fs::read(&path).unwrap(), b"whole");
+    }
+}
