@@ -624,7 +624,7 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
     eprintln!("[{preset}] Engine::plan × {n_plan}");
     let ids: Vec<(String, String, String)> = qs[..n_plan].iter().map(|q| (engine.tt.stops[q.from.idx()].id.clone(), engine.tt.stops[q.to.idx()].id.clone(), hhmm(q.minute))).collect();
     let date_s = date.to_string();
-    let pq = |(from, to, time): &(String, String, String)| PlanQuery { from: from.clone(), to: to.clone(), date: date_s.clone(), time: time.clone(), options: Some(1), ..PlanQuery::default() };
+    let pq = |(from, to, time): &(String, String, String)| PlanQuery { from: from.clone(), to: to.clone(), date: date_s.clone(), time: time.clone(), next: Some(1), ..PlanQuery::default() };
     let _ = engine.plan(&pq(&ids[0]));
     let mut json_bytes = 0usize;
     let mut samples = Vec::new();

@@ -7,16 +7,16 @@ use serde::{Deserialize, Serialize};
 use unicode_normalization::UnicodeNormalization;
 
 use crate::error::{FeedError, QueryError};
-use crate::journey::{Builder, Itinerary};
+use crate::journey::{Builder, Check, Itinerary, LegKind, RouteRef};
 use crate::graph::Network;
 use crate::route::search::{self, Endpoints, Journey, Params, SearchState, StepFree};
 use crate::timetable::calendar::{clock_to_seconds, parse_clock, parse_date};
 use crate::timetable::{Access, FeedMeta, StopIdx, StopKind, Timetable, WalkConfig};
 
 /// A planning request as the page and the CLI send it. Missing fields take the defaults of
-/// [`Params::new`].
+/// [`Params::new`] (stated in DEVELOPERS.md, `timeweave plan --help` and beside the page's fields).
 #[derive(Debug, Clone, Serialize, Deserialize, Default)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct PlanQuery {
     pub from: String,
     pub to: String,
@@ -25,34 +25,69 @@ pub struct PlanQuery {
     /// HH:MM local time
     pub time: String,
     pub step_free: StepFree,
-    pub max_walk_m: Option<f64>,
-    pub walk_speed_mps: Option<f64>,
-    pub transfer_penalty_s: Option<u32>,
+    /// Longest walking link, m.
+    pub walk_limit_m: Option<f64>,
+    /// Walking speed, m/s.
+    pub walking_speed_mps: Option<f64>,
+    /// Added to the cost of each change of vehicle, s.
+    pub change_penalty_s: Option<u32>,
     pub walk_weight: Option<f64>,
+    /// Longest journey searched, s.
     pub max_duration_s: Option<u32>,
-    /// Number of options (next departures); default 3.
-    pub options: Option<usize>,
-    /// Also list the Pareto set over arrival time and number of rides.
-    pub pareto: bool,
+    /// How many successive journeys (each leaving after the one before); default 3.
+    pub next: Option<usize>,
+    /// Also list, for each number of rides, the earliest arrival (fewest rides first).
+    pub fewest_rides: bool,
 }
 
+/// Why a plan has no journey, with the facts behind it. Words for each code are made by the
+/// shells' presentation layer.
 #[derive(Debug, Clone, Serialize, PartialEq)]
-pub struct NoJourney {
-    pub reason: &'static str,
-    pub message: String,
-    pub blocking: Vec<String>,
+#[serde(tag = "code", rename_all = "snake_case")]
+pub enum NoJourney {
+    /// The date lies outside every loaded feed's calendar.
+    OutsideFeedDates { date: String, first_date: String, last_date: String },
+    /// No trip runs on the date.
+    NoServiceOnDate { date: String },
+    /// The standard journey exists, but uses elements a step-free journey cannot.
+    NoStepFreePath { standard_depart: String, standard_arrive: String, blocked_by: Vec<Blocked> },
+    /// Nothing within the whole day.
+    NoConnection,
+}
+
+/// A leg of the standard journey that blocks the step-free one, and the checks that fail.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct Blocked {
+    pub kind: LegKind,
+    pub route: Option<RouteRef>,
+    pub start: String,
+    pub end: String,
+    pub checks: Vec<Check>,
+}
+
+/// Something the rider should know about the journeys found.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(tag = "code", rename_all = "snake_case")]
+pub enum Note {
+    /// Lenient step-free: some legs rely on elements whose accessibility the feed does not state.
+    LenientUnknownUsed,
+    /// No journey arrives within the longest duration searched; the first journey found is
+    /// shown anyway (a long wait, or a long ride).
+    BeyondMaxDuration { max_duration_s: u32, duration_s: u32 },
 }
 
 #[derive(Debug, Clone, Serialize)]
 pub struct PlanResult {
-    pub query: PlanQuery,
-    pub itineraries: Vec<Itinerary>,
-    pub no_journey: Option<NoJourney>,
+    /// The request, as understood.
+    pub asked: PlanQuery,
+    pub journeys: Vec<Itinerary>,
+    pub nothing_found: Option<NoJourney>,
+    /// Step-free first journey's arrival minus the standard one's, s.
     pub step_free_extra_s: Option<i64>,
-    /// With `pareto`: for each number of rides, the earliest arrival, when it is earlier than
-    /// with fewer rides (fewest rides first).
-    pub pareto: Vec<Itinerary>,
-    pub warnings: Vec<String>,
+    /// With `fewest_rides`: for each number of rides, the earliest arrival, when it is earlier
+    /// than with fewer rides (fewest rides first).
+    pub fewest_rides: Vec<Itinerary>,
+    pub notes: Vec<Note>,
 }
 
 #[derive(Debug, Clone, Serialize, PartialEq)]
@@ -289,19 +324,19 @@ impl Engine {
 
     pub fn params_for(&self, q: &PlanQuery) -> Result<Params, QueryError> {
         let mut p = Params::new(q.step_free);
-        if let Some(v) = q.walk_speed_mps {
+        if let Some(v) = q.walking_speed_mps {
             if !(v.is_finite() && v > 0.05 && v < 10.0) {
                 return Err(QueryError::BadOption(format!("walking speed {v} m/s is outside 0.05–10")));
             }
             p.walk_speed_mps = v;
         }
-        if let Some(v) = q.max_walk_m {
+        if let Some(v) = q.walk_limit_m {
             if !(v.is_finite() && v >= 0.0) {
                 return Err(QueryError::BadOption(format!("maximum walk {v} m must be zero or more")));
             }
             p.max_walk_m = v;
         }
-        if let Some(v) = q.transfer_penalty_s {
+        if let Some(v) = q.change_penalty_s {
             p.transfer_penalty_s = v.min(3 * 3600);
         }
         if let Some(v) = q.walk_weight {
@@ -326,41 +361,47 @@ impl Engine {
         let from = self.resolve(&q.from)?;
         let to = self.resolve(&q.to)?;
         let p = self.params_for(q)?;
-        let k = q.options.unwrap_or(3).clamp(1, 10);
+        let k = q.next.unwrap_or(3).clamp(1, 10);
         let ends = Endpoints { origins: self.endpoints_of(from), targets: self.endpoints_of(to) };
         let tz = self.tt.feeds[0].timezone;
         let depart_s = clock_to_seconds(tz, date, h, m).ok_or_else(|| QueryError::BadTime(q.time.clone()))?.max(0) as u32;
-        let mut result = PlanResult { query: q.clone(), itineraries: vec![], no_journey: None, step_free_extra_s: None, pareto: vec![], warnings: vec![] };
+        let mut result = PlanResult { asked: q.clone(), journeys: vec![], nothing_found: None, step_free_extra_s: None, fewest_rides: vec![], notes: vec![] };
         self.network(date);
         let journeys = self.run_options(&ends, depart_s, &p, k);
-        result.itineraries = journeys.iter().map(|j| self.build(j, &ends, &p, depart_s)).collect();
-        if q.pareto {
+        result.journeys = journeys.iter().map(|j| self.build(j, &ends, &p, depart_s)).collect();
+        if q.fewest_rides {
             let net = self.net.as_ref().expect("network built");
             // The layered search holds one label set per ride count; fewer layers on big networks.
             let max_rides = if net.events() > 1_000_000 { 3 } else { 5 };
             let set = search::pareto(&self.tt, net, &mut self.state, &ends, depart_s, &p, max_rides);
-            result.pareto = set.iter().map(|j| self.build(j, &ends, &p, depart_s)).collect();
+            result.fewest_rides = set.iter().map(|j| self.build(j, &ends, &p, depart_s)).collect();
         }
         if q.step_free != StepFree::Off {
-            let std = Params { step_free: StepFree::Off, walk_speed_mps: q.walk_speed_mps.unwrap_or(Params::new(StepFree::Off).walk_speed_mps), ..p.clone() };
+            let std = Params { step_free: StepFree::Off, walk_speed_mps: q.walking_speed_mps.unwrap_or(Params::new(StepFree::Off).walk_speed_mps), ..p.clone() };
             let standard = self.run_options(&ends, depart_s, &std, 1);
-            if let (Some(s), Some(first)) = (standard.first(), result.itineraries.first()) {
+            if let (Some(s), Some(first)) = (standard.first(), result.journeys.first()) {
                 let si = self.build(s, &ends, &std, depart_s);
                 result.step_free_extra_s = Some(first.arrive_s as i64 - si.arrive_s as i64);
             }
-            if result.itineraries.is_empty() {
+            if result.journeys.is_empty() {
                 if let Some(s) = standard.first() {
                     let si = self.build(s, &ends, &std, depart_s);
-                    let blocking = self.blocking(&si, &p);
-                    result.no_journey = Some(NoJourney { reason: "no_step_free_path", message: format!("No step-free journey found. The standard journey (leaving {}, arriving {}) uses elements that are not step-free.", si.depart, si.arrive), blocking });
+                    let blocked_by = self.blocking(&si, &p);
+                    result.nothing_found = Some(NoJourney::NoStepFreePath { standard_depart: si.depart.clone(), standard_arrive: si.arrive.clone(), blocked_by });
                 }
             }
-            if q.step_free == StepFree::Lenient && result.itineraries.iter().any(|i| i.step_free == Access::Unknown) {
-                result.warnings.push("Some legs rely on elements whose accessibility the feed does not state (lenient mode).".into());
+            if q.step_free == StepFree::Lenient && result.journeys.iter().any(|i| i.step_free == Access::Unknown) {
+                result.notes.push(Note::LenientUnknownUsed);
             }
         }
-        if result.itineraries.is_empty() && result.no_journey.is_none() {
-            result.no_journey = Some(self.why_none(date, &ends, depart_s, &p));
+        if result.journeys.is_empty() && result.nothing_found.is_none() {
+            match self.why_none(date, &ends, depart_s, &p) {
+                Ok(why) => result.nothing_found = Some(why),
+                Err(beyond) => {
+                    result.notes.push(Note::BeyondMaxDuration { max_duration_s: p.max_duration_s, duration_s: beyond.duration_s });
+                    result.journeys.push(beyond);
+                }
+            }
         }
         Ok(result)
     }
@@ -375,42 +416,38 @@ impl Engine {
         Builder { tt: &self.tt, net, params: p, ends, walk_cfg: &self.walk_cfg, query_s: depart_s }.build(j)
     }
 
-    /// The elements of a standard itinerary that a step-free journey cannot use.
-    fn blocking(&self, it: &Itinerary, p: &Params) -> Vec<String> {
-        let mut out = Vec::new();
-        for leg in &it.legs {
-            let bad = match p.step_free {
-                StepFree::Strict => leg.step_free.status != Access::Yes,
-                _ => leg.step_free.status == Access::No,
-            };
-            if bad {
-                let what = match &leg.route {
-                    Some(r) => format!("{} {} from {} to {}", r.mode, r.short_name, leg.from.name, leg.to.name),
-                    None => format!("walk from {} to {}", leg.from.name, leg.to.name),
-                };
-                out.push(format!("{what}: {}", leg.step_free.problems.join("; ")));
-            }
-        }
-        out
+    /// The legs of a standard itinerary that a step-free journey cannot use, with the checks
+    /// that fail.
+    fn blocking(&self, it: &Itinerary, p: &Params) -> Vec<Blocked> {
+        let bad = |a: Access| match p.step_free {
+            StepFree::Strict => a != Access::Yes,
+            _ => a == Access::No,
+        };
+        it.legs
+            .iter()
+            .filter(|leg| bad(leg.step_free.status))
+            .map(|leg| Blocked { kind: leg.kind, route: leg.route.clone(), start: leg.start.name.clone(), end: leg.end.name.clone(), checks: leg.step_free.checks.iter().filter(|c| bad(c.verdict)).cloned().collect() })
+            .collect()
     }
 
-    fn why_none(&mut self, date: NaiveDate, ends: &Endpoints, depart_s: u32, p: &Params) -> NoJourney {
+    /// Why nothing was found; or, when a journey exists beyond the longest duration searched,
+    /// that journey (`Err`), so it can be shown with a note instead of hidden.
+    fn why_none(&mut self, date: NaiveDate, ends: &Endpoints, depart_s: u32, p: &Params) -> Result<NoJourney, Itinerary> {
         if let Some((first, last)) = self.tt.date_range() {
             if date < first || date > last {
-                return NoJourney { reason: "outside_feed_dates", message: format!("{date} is outside the dates the loaded feeds cover ({first} to {last})."), blocking: vec![] };
+                return Ok(NoJourney::OutsideFeedDates { date: date.to_string(), first_date: first.to_string(), last_date: last.to_string() });
             }
         }
         let net = self.net.as_ref().expect("network built");
         if net.trips_today == 0 {
-            return NoJourney { reason: "no_service_on_date", message: format!("No trip of the loaded feeds runs on {date}."), blocking: vec![] };
+            return Ok(NoJourney::NoServiceOnDate { date: date.to_string() });
         }
         let mut longer = p.clone();
-        longer.max_duration_s = 24 * 3600;
+        longer.max_duration_s = 48 * 3600;
         if let Some(j) = search::earliest(&self.tt, net, &mut self.state, ends, depart_s, &longer) {
-            let mins = (j.arrival_s.saturating_sub(depart_s)) / 60;
-            return NoJourney { reason: "nothing_within_limit", message: format!("Nothing arrives within {} min; the first journey found takes {mins} min.", p.max_duration_s / 60), blocking: vec![] };
+            return Err(self.build(&j, ends, &longer, depart_s));
         }
-        NoJourney { reason: "no_connection", message: "No connection between these stops on this date after this time.".into(), blocking: vec![] }
+        Ok(NoJourney::NoConnection)
     }
 
     /// Earliest arrival at every stop within `limit_min` minutes ("what can be reached"), as

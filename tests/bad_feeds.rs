@@ -32,7 +32,7 @@ fn base_answers(e: &mut Engine) -> String {
     for (from, to, time) in [("base:A", "base:D", "07:50"), ("base:S", "base:C", "08:30"), ("base:A", "base:C", "10:05")] {
         let q = PlanQuery { from: from.into(), to: to.into(), date: "2026-06-03".into(), time: time.into(), ..PlanQuery::default() };
         match e.plan(&q) {
-            Ok(r) => out.push_str(&serde_json::to_string(&(r.itineraries, r.no_journey)).expect("json")),
+            Ok(r) => out.push_str(&serde_json::to_string(&(r.journeys, r.nothing_found)).expect("json")),
             Err(err) => out.push_str(&format!("error {err}")),
         }
         out.push('\n');

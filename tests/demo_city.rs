@@ -44,5 +44,5 @@ fn names_are_matched_without_case_or_accents() {
     assert_eq!(id(&engine, "creperie corner").ok().as_deref(), Some("OCT_CRC"));
     // And the accented typo plans like the right name (demo-data/README.md, case A standard).
     let r = plan(&mut engine, &query("quistenfórd", "tollimere", "2026-12-02", "08:00"), StepFree::Off);
-    assert_eq!(r.itineraries.first().map(|i| i.arrive.as_str()), Some("08:34"));
+    assert_eq!(r.journeys.first().map(|i| i.arrive.as_str()), Some("08:34"));
 }

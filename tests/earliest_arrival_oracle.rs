@@ -180,10 +180,10 @@ fn earliest_arrival_equals_connection_scan() {
             prop_assert_eq!(got, want, "search::earliest");
             // The same through the front door, options 1.
             let mut q = query(&format!("S{}", c.origin), &format!("S{}", c.target), DATE, &hms(depart_s)[..5]);
-            q.transfer_penalty_s = Some(0);
-            q.options = Some(1);
+            q.change_penalty_s = Some(0);
+            q.next = Some(1);
             let r = engine.plan(&q).map_err(|e| TestCaseError::fail(e.to_string()))?;
-            prop_assert_eq!(r.itineraries.first().map(|i| i.arrive_s), want, "Engine::plan");
+            prop_assert_eq!(r.journeys.first().map(|i| i.arrive_s), want, "Engine::plan");
             found.set(found.get() + u32::from(want.is_some()));
             Ok(())
         })

@@ -101,7 +101,7 @@ fn walking_links_are_distance_times_detour_over_speed() {
     // Through the planner: a walk-only journey takes the same time, at each profile's speed.
     for (sf, speed) in [(StepFree::Off, 1.3), (StepFree::Strict, 0.8)] {
         let r = plan(&mut engine, &query("A", "B", "2026-06-10", "08:00"), sf);
-        let it = r.itineraries.first().unwrap_or_else(|| panic!("{r:?}"));
+        let it = r.journeys.first().unwrap_or_else(|| panic!("{r:?}"));
         assert_eq!(it.rides, 0);
         assert_eq!(it.legs.len(), 1, "{it:?}");
         assert_eq!(it.legs[0].kind, LegKind::Walk);

@@ -8,7 +8,8 @@ mod support;
 
 use chrono::{NaiveDate, TimeZone, Utc};
 use support::{departures, plan, query, Feed};
-use timeweave::journey::LegKind;
+use timeweave::engine::{NoJourney, Note};
+use timeweave::journey::{Fact, LegKind};
 use timeweave::route::search::StepFree;
 use timeweave::timetable::calendar::{clock_to_seconds, day_origin, seconds_to_clock};
 use timeweave::timetable::Access;
@@ -48,8 +49,8 @@ fn a_trip_past_midnight_belongs_to_its_service_day_and_is_found_the_next_morning
     // departure_time): "For times occurring after midnight on the service day, enter the time as a
     // value greater than 24:00:00"; 25:10:00 of Monday's service day is 01:10 on Tuesday.
     let r = plan(&mut engine, &query("A", "B", "2026-06-02", "01:00"), StepFree::Off);
-    assert_eq!(r.itineraries.len(), 1, "{r:?}");
-    let it = &r.itineraries[0];
+    assert_eq!(r.journeys.len(), 1, "{r:?}");
+    let it = &r.journeys[0];
     assert_eq!(it.legs[0].trip_id.as_deref(), Some("NIGHT"));
     assert_eq!((it.depart.as_str(), it.arrive.as_str()), ("01:10", "01:30"));
     // The zone has no clock change, so Tuesday's origin is Tuesday 00:00 and 01:10 is 4200 s after it.
@@ -58,7 +59,7 @@ fn a_trip_past_midnight_belongs_to_its_service_day_and_is_found_the_next_morning
     // Asked on the service day itself, the same trip is shown on the next calendar day.
     // DEVELOPERS.md result shape: "+1" is appended when the clock reads the next calendar day.
     let r = plan(&mut engine, &query("A", "B", "2026-06-01", "23:00"), StepFree::Off);
-    let it = &r.itineraries[0];
+    let it = &r.journeys[0];
     assert_eq!(it.legs[0].trip_id.as_deref(), Some("NIGHT"));
     assert_eq!((it.depart.as_str(), it.depart_s), ("01:10+1", 25 * 3600 + 600));
 
@@ -68,7 +69,7 @@ fn a_trip_past_midnight_belongs_to_its_service_day_and_is_found_the_next_morning
 
     // Tuesday's service does not run, so nothing leaves after midnight into Wednesday.
     let r = plan(&mut engine, &query("A", "B", "2026-06-03", "01:00"), StepFree::Off);
-    assert!(r.itineraries.is_empty(), "{r:?}");
+    assert!(r.journeys.is_empty(), "{r:?}");
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -121,12 +122,12 @@ fn noon_minus_twelve_hours_on_the_spring_clock_change() {
     let mut engine = dst_feed().load();
     // A stop_time of 08:00:00 is origin + 8 h, shown as local 08:00 (derived above).
     let r = plan(&mut engine, &query("A", "B", "2026-03-29", "07:00"), StepFree::Off);
-    let it = &r.itineraries[0];
+    let it = &r.journeys[0];
     assert_eq!((it.legs[0].trip_id.as_deref(), it.depart.as_str(), it.depart_s, it.arrive.as_str()), (Some("MORNING"), "08:00", 8 * 3600, "08:20"));
     // A stop_time of 01:00:00 is origin + 1 h: 00:00 local, because the origin is 23:00 of the
     // previous day (derived above from the reference's definition).
     let r = plan(&mut engine, &query("A", "B", "2026-03-29", "00:00"), StepFree::Off);
-    let it = &r.itineraries[0];
+    let it = &r.journeys[0];
     assert_eq!((it.legs[0].trip_id.as_deref(), it.depart.as_str(), it.depart_s, it.arrive.as_str()), (Some("EARLY"), "00:00", 3600, "00:20"));
 }
 
@@ -146,7 +147,7 @@ fn noon_minus_twelve_hours_on_the_autumn_clock_change() {
     let mut engine = dst_feed().load();
     // A stop_time of 01:00:00 is origin + 1 h = 00:00 UTC = 02:00 CEST.
     let r = plan(&mut engine, &query("A", "B", "2026-10-25", "01:30"), StepFree::Off);
-    let it = &r.itineraries[0];
+    let it = &r.journeys[0];
     assert_eq!((it.legs[0].trip_id.as_deref(), it.depart.as_str(), it.depart_s), (Some("EARLY"), "02:00", 3600));
     let r = plan(&mut engine, &query("A", "B", "2026-10-25", "07:00"), StepFree::Off);
     assert_eq!(departures(&r).first().map(String::as_str), Some("08:00"));
@@ -170,7 +171,7 @@ fn calendar_dates_add_and_remove_single_dates() {
             T,09:00:00,09:00:00,A,1
             T,09:20:00,09:20:00,B,2")
         .load();
-    let runs = |engine: &mut timeweave::Engine, d: &str| !plan(engine, &query("A", "B", d, "08:00"), StepFree::Off).itineraries.is_empty();
+    let runs = |engine: &mut timeweave::Engine, d: &str| !plan(engine, &query("A", "B", d, "08:00"), StepFree::Off).journeys.is_empty();
     // GTFS Schedule reference, calendar.txt: the weekly pattern applies from start_date to
     // end_date, and of end_date: "This service day is included in the interval".
     assert!(runs(&mut engine, "2026-06-01"), "start_date (a Monday) is included");
@@ -182,7 +183,7 @@ fn calendar_dates_add_and_remove_single_dates() {
     assert!(runs(&mut engine, "2026-06-06"), "Saturday added by exception_type 1");
     assert!(!runs(&mut engine, "2026-06-10"), "Wednesday removed by exception_type 2");
     let r = plan(&mut engine, &query("A", "B", "2026-06-10", "08:00"), StepFree::Off);
-    assert_eq!(r.no_journey.as_ref().map(|n| n.reason), Some("no_service_on_date"));
+    assert!(matches!(r.nothing_found, Some(NoJourney::NoServiceOnDate { .. })), "{r:?}");
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -216,7 +217,7 @@ fn frequency_feed() -> Feed {
 fn frequencies_with_exact_times_run_at_start_plus_k_headways_before_end() {
     let mut engine = frequency_feed().load();
     let mut q = query("A", "B", "2026-06-10", "05:30");
-    q.options = Some(10);
+    q.next = Some(10);
     let r = plan(&mut engine, &q, StepFree::Off);
     // GTFS Schedule reference, frequencies.txt, exact_times=1: trips start at
     // start_time + x·headway_secs for x = 0, 1, 2, … while that start is before end_time, so
@@ -224,19 +225,19 @@ fn frequencies_with_exact_times_run_at_start_plus_k_headways_before_end() {
     assert_eq!(departures(&r), ["06:00", "06:30", "07:00", "07:30"]);
     // GTFS Schedule reference, frequencies.txt: for such trips stop_times.txt gives only the
     // time differences between stops (12 min here), not absolute times.
-    let arrivals: Vec<&str> = r.itineraries.iter().map(|i| i.arrive.as_str()).collect();
+    let arrivals: Vec<&str> = r.journeys.iter().map(|i| i.arrive.as_str()).collect();
     assert_eq!(arrivals, ["06:12", "06:42", "07:12", "07:42"]);
     // exact_times=1 is "schedule-based" (GTFS Schedule reference), so not flagged as estimates.
-    assert!(r.itineraries.iter().all(|i| i.legs.iter().all(|l| !l.frequency_based)), "{r:?}");
+    assert!(r.journeys.iter().all(|i| i.legs.iter().all(|l| !l.frequency_based)), "{r:?}");
 }
 
 #[test]
 fn headway_based_frequencies_are_expanded_and_flagged() {
     let mut engine = frequency_feed().load();
     let mut q = query("C", "D", "2026-06-10", "05:30");
-    q.options = Some(10);
+    q.next = Some(10);
     let r = plan(&mut engine, &q, StepFree::Off);
-    let deps: Vec<u32> = r.itineraries.iter().map(|i| i.depart_s).collect();
+    let deps: Vec<u32> = r.journeys.iter().map(|i| i.depart_s).collect();
     assert!(!deps.is_empty(), "{r:?}");
     // GTFS Schedule reference, frequencies.txt: headway_secs is the "time between departures from
     // the same stop" during the interval from start_time to end_time (06:00–07:00).
@@ -245,7 +246,7 @@ fn headway_based_frequencies_are_expanded_and_flagged() {
     assert_eq!(deps.len(), 4, "one hour at a 900 s headway");
     // GTFS Schedule reference, frequencies.txt: exact_times=0 means "frequency-based trips", whose
     // times are not exactly scheduled, and the result says so on each ride leg.
-    for it in &r.itineraries {
+    for it in &r.journeys {
         let ride = it.legs.iter().find(|l| l.kind == LegKind::Ride).expect("a ride leg");
         assert!(ride.frequency_based, "{ride:?}");
         assert_eq!(ride.duration_s, 15 * 60);
@@ -312,25 +313,25 @@ fn step_free_planning_follows_inherited_and_own_wheelchair_boarding() {
     let mut engine = wheelchair_feed().load();
     // Inherited 1 (GTFS Schedule reference, see above): a strict step-free journey exists.
     let r = plan(&mut engine, &query("ST_Y", "X", "2026-06-10", "08:00"), StepFree::Strict);
-    let it = r.itineraries.first().unwrap_or_else(|| panic!("{r:?}"));
+    let it = r.journeys.first().unwrap_or_else(|| panic!("{r:?}"));
     assert_eq!((it.step_free, it.legs[0].trip_id.as_deref()), (Access::Yes, Some("TY")));
-    assert!(it.legs[0].step_free.reasons.iter().any(|w| w.contains("inherited")), "{:?}", it.legs[0].step_free);
+    assert!(it.legs[0].step_free.checks.iter().any(|c| matches!(&c.fact, Fact::Stop { inherited_from: Some(_), .. })), "{:?}", it.legs[0].step_free);
 
     // Inherited 2: no step-free journey, strict or lenient; the standard one exists and is named.
     for sf in [StepFree::Strict, StepFree::Lenient] {
         let r = plan(&mut engine, &query("ST_N", "X", "2026-06-10", "08:00"), sf);
-        assert!(r.itineraries.is_empty(), "{sf:?}: {r:?}");
-        let why = r.no_journey.as_ref().expect("a reason");
-        assert_eq!(why.reason, "no_step_free_path");
-        assert!(why.blocking.iter().any(|b| b.contains("P_N")), "{why:?}");
+        assert!(r.journeys.is_empty(), "{sf:?}: {r:?}");
+        let why = r.nothing_found.as_ref().expect("a reason");
+        let NoJourney::NoStepFreePath { blocked_by, .. } = why else { panic!("{why:?}") };
+        assert!(blocked_by.iter().flat_map(|b| &b.checks).any(|c| matches!(&c.fact, Fact::Stop { stop_id, .. } if stop_id == "P_N")), "{why:?}");
     }
-    assert!(!plan(&mut engine, &query("ST_N", "X", "2026-06-10", "08:00"), StepFree::Off).itineraries.is_empty());
+    assert!(!plan(&mut engine, &query("ST_N", "X", "2026-06-10", "08:00"), StepFree::Off).journeys.is_empty());
 
     // A platform's own 2 blocks its trip; the station's other platform (inherited 1) is used.
     let std = plan(&mut engine, &query("ST_H", "X", "2026-06-10", "08:00"), StepFree::Off);
-    assert_eq!(std.itineraries[0].legs.iter().find_map(|l| l.trip_id.as_deref()), Some("TH1"));
+    assert_eq!(std.journeys[0].legs.iter().find_map(|l| l.trip_id.as_deref()), Some("TH1"));
     let sf = plan(&mut engine, &query("ST_H", "X", "2026-06-10", "08:00"), StepFree::Strict);
-    let it = sf.itineraries.first().unwrap_or_else(|| panic!("{sf:?}"));
+    let it = sf.journeys.first().unwrap_or_else(|| panic!("{sf:?}"));
     assert_eq!(it.legs.iter().find_map(|l| l.trip_id.as_deref()), Some("TH2"));
     assert_eq!(it.arrive, "08:55");
     // 08:55 − 08:25: the step-free first option's arrival minus the standard one's (DEVELOPERS.md).
@@ -339,12 +340,12 @@ fn step_free_planning_follows_inherited_and_own_wheelchair_boarding() {
     // GTFS Schedule reference: 0 = no information. Strict mode accepts only 1; lenient mode also
     // accepts unknown and flags it (the engine's documented modes, search::StepFree).
     let strict = plan(&mut engine, &query("U", "X", "2026-06-10", "08:00"), StepFree::Strict);
-    assert!(strict.itineraries.is_empty(), "{strict:?}");
-    assert_eq!(strict.no_journey.as_ref().map(|n| n.reason), Some("no_step_free_path"));
+    assert!(strict.journeys.is_empty(), "{strict:?}");
+    assert!(matches!(strict.nothing_found, Some(NoJourney::NoStepFreePath { .. })), "{strict:?}");
     let lenient = plan(&mut engine, &query("U", "X", "2026-06-10", "08:00"), StepFree::Lenient);
-    let it = lenient.itineraries.first().unwrap_or_else(|| panic!("{lenient:?}"));
+    let it = lenient.journeys.first().unwrap_or_else(|| panic!("{lenient:?}"));
     assert_eq!(it.step_free, Access::Unknown);
-    assert!(!lenient.warnings.is_empty(), "lenient results that rely on unknown elements carry a warning");
+    assert!(lenient.notes.contains(&Note::LenientUnknownUsed), "lenient results that rely on unknown elements carry a note");
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -394,12 +395,12 @@ fn transfer_feed(trips: &[&str], transfers: Option<&str>) -> Feed {
 fn arrival(feed: Feed) -> (String, timeweave::journey::Itinerary) {
     let mut engine = feed.load();
     let r = plan(&mut engine, &query("O", "D", "2026-06-10", "07:55"), StepFree::Off);
-    let it = r.itineraries.first().unwrap_or_else(|| panic!("no journey: {r:?}")).clone();
+    let it = r.journeys.first().unwrap_or_else(|| panic!("no journey: {r:?}")).clone();
     (it.arrive.clone(), it)
 }
 
 fn walks_between(it: &timeweave::journey::Itinerary, a: &str, b: &str) -> bool {
-    it.legs.iter().any(|l| l.kind != LegKind::Ride && l.from.stop_id == a && l.to.stop_id == b)
+    it.legs.iter().any(|l| l.kind != LegKind::Ride && l.start.stop_id == a && l.end.stop_id == b)
 }
 
 #[test]
@@ -421,7 +422,7 @@ fn transfer_type_3_between_two_stops_forbids_that_walk() {
     // Without the alternative there is no journey at all.
     let mut engine = transfer_feed(&["R1", "R2"], Some("A,B,3,")).load();
     let r = plan(&mut engine, &query("O", "D", "2026-06-10", "07:55"), StepFree::Off);
-    assert!(r.itineraries.is_empty(), "{r:?}");
+    assert!(r.journeys.is_empty(), "{r:?}");
 }
 
 #[test]
@@ -448,7 +449,7 @@ fn transfer_type_2_between_stops_beyond_walking_range_gives_a_link_of_at_least_i
     let (arr, it) = arrival(transfer_feed(&trips, Some("A,F,2,600")));
     assert_eq!(arr, "09:00");
     let walk = it.legs.iter().find(|l| l.kind != LegKind::Ride).expect("a walk A → F");
-    assert_eq!((walk.from.stop_id.as_str(), walk.to.stop_id.as_str(), walk.duration_s), ("A", "F", 600), "{walk:?}");
+    assert_eq!((walk.start.stop_id.as_str(), walk.end.stop_id.as_str(), walk.duration_s), ("A", "F", 600), "{walk:?}");
 }
 
 /// Engine bug found by this test: the walking closure counts a rule's min_transfer_time as walking
@@ -469,7 +470,7 @@ fn transfer_type_2_with_a_long_min_transfer_time_keeps_its_link() {
 /// segment (min_s 0) next to the rule's link (min_s = min_transfer_time). Input: A and B 100 m
 /// apart, transfers.txt `A,B,2,600`. Expected (GTFS Schedule reference, transfer_type 2): the walk
 /// A → B takes at least 600 s, so R2 at 08:13 is missed and R2B at 08:25 arrives 08:50. Actual:
-/// the 101 s street walk, R2, 08:40. The demo city's rules (Lantern Square 180 s, Tram Place
+/// the 101 s street walk, R2, 08:40. The demo city's rules (Lantern Square 180 s, Tram StopRef
 /// 120 s, …) are affected the same way.
 #[test]
 fn transfer_type_2_min_transfer_time_between_nearby_stops_is_respected() {
@@ -512,7 +513,7 @@ fn pickup_type_and_drop_off_type_1_are_respected() {
         .load();
     let first = |engine: &mut timeweave::Engine, from: &str, to: &str| {
         let r = plan(engine, &query(from, to, "2026-06-10", "07:50"), StepFree::Off);
-        let it = r.itineraries.first().unwrap_or_else(|| panic!("{r:?}"));
+        let it = r.journeys.first().unwrap_or_else(|| panic!("{r:?}"));
         (it.legs[0].trip_id.clone().unwrap_or_default(), it.depart.clone(), it.arrive.clone())
     };
     // GTFS Schedule reference, stop_times.txt pickup_type 1: "No pickup available" at M on P1.
@@ -556,7 +557,7 @@ fn a_timed_transfer_at_the_same_instant_is_reached_by_the_one_to_all_sweep() {
     // routes. The departing vehicle is expected to wait for the arriving one and leave sufficient
     // time for a rider to transfer between routes." So C is reached at 08:10 via FEEDER, ONWARD.
     let r = plan(&mut engine, &query("A", "C", "2026-06-01", "07:55"), StepFree::Off);
-    assert_eq!(r.itineraries.first().map(|it| it.arrive.as_str()), Some("08:10"), "{r:?}");
+    assert_eq!(r.journeys.first().map(|it| it.arrive.as_str()), Some("08:10"), "{r:?}");
     let reach = engine.reach("A", "2026-06-01", "07:55", StepFree::Off, 60).expect("reach");
     let at = |id: &str| reach.iter().find(|x| x.stop_id == id).map(|x| x.minutes);
     assert_eq!((at("B"), at("C")), (Some(5), Some(15)), "{reach:?}");
@@ -641,5 +642,5 @@ fn stop_times_rows_in_any_order_give_the_same_journeys_and_warnings() {
 }
 
 fn departures_and_arrivals(r: &timeweave::engine::PlanResult) -> Vec<String> {
-    r.itineraries.iter().map(|i| format!("{}-{}", i.depart, i.arrive)).collect()
+    r.journeys.iter().map(|i| format!("{}-{}", i.depart, i.arrive)).collect()
 }

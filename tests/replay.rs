@@ -243,15 +243,15 @@ fn check_case(c: &Case) -> Result<(), TestCaseError> {
         let t0 = 7 * 3600 + 50 * 60 + q.min * 60;
         let time = format!("{:02}:{:02}", t0 / 3600, t0 / 60 % 60);
         for penalty in [None, Some(0)] {
-            let pq = PlanQuery { from: format!("S{}", q.from), to: format!("S{}", q.to), date: DATE.into(), time: time.clone(), step_free: sf, transfer_penalty_s: penalty, walk_weight: Some(1.0), options: Some(3), ..PlanQuery::default() };
+            let pq = PlanQuery { from: format!("S{}", q.from), to: format!("S{}", q.to), date: DATE.into(), time: time.clone(), step_free: sf, change_penalty_s: penalty, walk_weight: Some(1.0), next: Some(3), ..PlanQuery::default() };
             let r = engine.plan(&pq).map_err(|e| TestCaseError::fail(format!("plan {pq:?}: {e}")))?;
             QUERIES.fetch_add(1, Ordering::Relaxed);
             let p: Params = engine.params_for(&pq).expect("params");
             let (from, to) = (engine.endpoints_of(idx[q.from]), engine.endpoints_of(idx[q.to]));
-            for it in &r.itineraries {
+            for it in &r.journeys {
                 ITINERARIES.fetch_add(1, Ordering::Relaxed);
                 WALK_LEGS.fetch_add(it.legs.iter().filter(|l| l.kind != timeweave::journey::LegKind::Ride).count(), Ordering::Relaxed);
-                PATHWAY_STEPS.fetch_add(it.legs.iter().map(|l| l.path.len()).sum(), Ordering::Relaxed);
+                PATHWAY_STEPS.fetch_add(it.legs.iter().map(|l| l.pathways.len()).sum(), Ordering::Relaxed);
                 CHANGES.fetch_add(it.legs.iter().filter(|l| l.kind == timeweave::journey::LegKind::Ride).count().saturating_sub(1), Ordering::Relaxed);
                 if let Err(m) = replay(&engine.tt, date, t0, &p, &from, &to, it) {
                     return Err(TestCaseError::fail(format!("{m}\nquery {pq:?}\nitinerary {}", serde_json::to_string_pretty(it).unwrap_or_default())));
@@ -263,8 +263,8 @@ fn check_case(c: &Case) -> Result<(), TestCaseError> {
                     walk.from(idx[s]).iter().filter(|f| f.length_m as f64 <= p.max_walk_m).filter_map(|f| idx.iter().position(|&x| x == f.to).map(|b| (b, f.duration_s(p.walk_speed_mps)))).collect()
                 };
                 let want = oracle(c, &links, q.from, q.to, t0, q.strict, p.transfer_s());
-                let got = r.itineraries.first().map(|i| i.arrive_s);
-                prop_assert_eq!(got, want, "first arrival vs Connection Scan; query {:?}; result {:?}", pq, r.no_journey);
+                let got = r.journeys.first().map(|i| i.arrive_s);
+                prop_assert_eq!(got, want, "first arrival vs Connection Scan; query {:?}; result {:?}", pq, r.nothing_found);
                 if want.is_some() {
                     ORACLE_HITS.fetch_add(1, Ordering::Relaxed);
                 }
@@ -307,7 +307,7 @@ fn replay_rejects_tampered_itineraries() {
     e.load_zip("base", &base_files(BASE_LAT).zip(), &mut |_, _| {}).expect("base feed");
     let q = PlanQuery { from: "A".into(), to: "D".into(), date: "2026-06-03".into(), time: "07:50".into(), ..PlanQuery::default() };
     let r = e.plan(&q).expect("plan");
-    let it = r.itineraries.first().expect("an itinerary A → D").clone();
+    let it = r.journeys.first().expect("an itinerary A → D").clone();
     let p = e.params_for(&q).expect("params");
     let date = NaiveDate::from_ymd_opt(2026, 6, 3).expect("date");
     let (from, to) = (e.endpoints_of(e.resolve("A").expect("A")), e.endpoints_of(e.resolve("D").expect("D")));
@@ -332,7 +332,7 @@ fn replay_rejects_tampered_itineraries() {
     t.legs.remove(walk);
     tampered.push(("walk left out", t));
     let mut t = it.clone();
-    t.legs[ride].intermediate_stops.clear();
+    t.legs[ride].calls.clear();
     tampered.push(("intermediate stop B dropped", t));
     for (what, t) in tampered {
         assert!(replay(&e.tt, date, t0, &p, &from, &to, &t).is_err(), "replay accepted a tampered itinerary: {what}");

@@ -27,9 +27,9 @@ fn feed(transfers: &str) -> Feed {
 fn arrival(transfers: &str) -> Vec<String> {
     let mut e = feed(transfers).load();
     let mut q = query("A", "B", "2026-12-02", "07:55");
-    q.options = Some(1);
+    q.next = Some(1);
     let r = plan(&mut e, &q, StepFree::Off);
-    r.itineraries.iter().map(|i| format!("{} {}", i.arrive, i.legs.iter().filter_map(|l| l.trip_id.clone()).collect::<Vec<_>>().join("+"))).collect()
+    r.journeys.iter().map(|i| format!("{} {}", i.arrive, i.legs.iter().filter_map(|l| l.trip_id.clone()).collect::<Vec<_>>().join("+"))).collect()
 }
 
 #[test]

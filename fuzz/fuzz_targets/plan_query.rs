@@ -23,7 +23,7 @@ fuzz_target!(|data: &[u8]| {
     let Ok(q) = serde_json::from_slice::<PlanQuery>(data) else { return };
     let mut e = engine().lock().unwrap_or_else(|p| p.into_inner());
     if let Ok(r) = e.plan(&q) {
-        for it in &r.itineraries {
+        for it in &r.journeys {
             assert!(it.arrive_s >= it.depart_s, "itinerary arrives before it departs: {it:?}");
         }
     }

@@ -8,25 +8,28 @@
 use serde::Serialize;
 
 use crate::graph::Network;
-use crate::route::search::{access_walk_s, decode, is_boarding, Endpoints, Journey, Node, Params};
+use crate::route::search::{access_walk_s, decode, is_boarding, Node};
+use crate::route::{Endpoints, Journey, Params};
 use crate::timetable::calendar::seconds_to_clock;
-use crate::timetable::walking::pathway_access;
+use crate::timetable::walking::{pathway_access, PathwayFinding};
 use crate::timetable::{Access, Footpath, StopIdx, StopKind, Timetable, WalkConfig};
 
+/// A stop as a journey names it.
 #[derive(Debug, Clone, Serialize, PartialEq)]
-pub struct Place {
+pub struct StopRef {
     pub stop_id: String,
     pub feed: String,
     pub name: String,
-    pub platform: Option<String>,
+    pub platform_code: Option<String>,
     pub lat: f64,
     pub lon: f64,
+    /// The parent station's name.
     pub station: Option<String>,
 }
 
 #[derive(Debug, Clone, Serialize, PartialEq)]
-pub struct RouteInfo {
-    pub id: String,
+pub struct RouteRef {
+    pub route_id: String,
     pub short_name: String,
     pub long_name: String,
     pub mode: String,
@@ -35,8 +38,9 @@ pub struct RouteInfo {
     pub agency: String,
 }
 
+/// A stop the vehicle calls at between boarding and alighting.
 #[derive(Debug, Clone, Serialize, PartialEq)]
-pub struct StopCall {
+pub struct Call {
     pub stop_id: String,
     pub name: String,
     pub arrive_s: u32,
@@ -45,65 +49,105 @@ pub struct StopCall {
     pub depart: String,
 }
 
+/// One pathway walked, in the direction walked; `from` and `to` are stop names.
 #[derive(Debug, Clone, Serialize, PartialEq)]
-pub struct PathStep {
+pub struct PathwayStep {
     pub pathway_id: String,
-    pub mode: String,
+    pub pathway_mode: String,
     pub from: String,
     pub to: String,
 }
 
-#[derive(Debug, Clone, Serialize, PartialEq)]
-pub struct StepFreeStatus {
-    pub status: Access,
-    /// Every element checked, with its value in the feed.
-    pub reasons: Vec<String>,
-    /// The subset of `reasons` that is not step-free (or unknown).
-    pub problems: Vec<String>,
+/// Where a stop was used in a leg.
+#[derive(Debug, Clone, Copy, Serialize, PartialEq, Eq)]
+#[serde(rename_all = "snake_case")]
+pub enum StopRole {
+    Boarding,
+    Alighting,
+    Entrance,
 }
 
-impl StepFreeStatus {
+/// What a step-free judgement was made on: the element and the feed's value for it.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+#[serde(tag = "element", rename_all = "snake_case")]
+pub enum Fact {
+    /// The trip's `wheelchair_accessible`.
+    Trip { trip_id: String, wheelchair_accessible: Access },
+    /// A stop's `wheelchair_boarding`, after inheritance from its parent station
+    /// (`inherited_from`: that station's name).
+    Stop { role: StopRole, stop_id: String, name: String, wheelchair_boarding: Access, inherited_from: Option<String> },
+    /// One pathway, with what its fields show.
+    Pathway {
+        pathway_id: String,
+        pathway_mode: String,
+        #[serde(flatten)]
+        finding: PathwayFinding,
+    },
+    /// A walk along streets, which GTFS does not describe: taken as step-free.
+    Street,
+}
+
+/// One element a leg's step-free status was judged on, and the verdict.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct Check {
+    pub verdict: Access,
+    #[serde(flatten)]
+    pub fact: Fact,
+}
+
+/// A leg's step-free status and every check it rests on.
+#[derive(Debug, Clone, Serialize, PartialEq)]
+pub struct StepFreeEvidence {
+    pub status: Access,
+    pub checks: Vec<Check>,
+}
+
+impl StepFreeEvidence {
     fn new() -> Self {
-        StepFreeStatus { status: Access::Yes, reasons: vec![], problems: vec![] }
+        StepFreeEvidence { status: Access::Yes, checks: vec![] }
     }
-    fn add(&mut self, a: Access, why: String) {
-        self.status = worst(self.status, a);
-        if a != Access::Yes {
-            self.problems.push(why.clone());
-        }
-        self.reasons.push(why);
+    fn add(&mut self, verdict: Access, fact: Fact) {
+        self.status = self.status.worst(verdict);
+        self.checks.push(Check { verdict, fact });
+    }
+    /// The checks that are not step-free (or unknown).
+    pub fn problems(&self) -> impl Iterator<Item = &Check> {
+        self.checks.iter().filter(|c| c.verdict != Access::Yes)
     }
 }
 
 #[derive(Debug, Clone, Copy, Serialize, PartialEq, Eq)]
 #[serde(rename_all = "snake_case")]
 pub enum LegKind {
+    /// Along streets (and any pathways at either end).
     Walk,
     Ride,
-    Transfer,
+    /// Inside a station: pathways or a `transfers.txt` link, no street.
+    InStation,
 }
 
 #[derive(Debug, Clone, Serialize, PartialEq)]
 pub struct Leg {
     pub kind: LegKind,
-    pub from: Place,
-    pub to: Place,
+    pub start: StopRef,
+    pub end: StopRef,
     pub depart_s: u32,
     pub arrive_s: u32,
     pub depart: String,
     pub arrive: String,
     pub duration_s: u32,
     pub wait_before_s: u32,
-    pub route: Option<RouteInfo>,
+    pub route: Option<RouteRef>,
     pub trip_id: Option<String>,
     pub headsign: Option<String>,
     pub frequency_based: bool,
-    pub intermediate_stops: Vec<StopCall>,
+    pub calls: Vec<Call>,
     pub distance_m: Option<u32>,
-    pub path: Vec<PathStep>,
-    pub step_free: StepFreeStatus,
+    pub pathways: Vec<PathwayStep>,
+    pub step_free: StepFreeEvidence,
 }
 
+/// A journey a person can follow: legs, and where its time goes.
 #[derive(Debug, Clone, Serialize, PartialEq)]
 pub struct Itinerary {
     pub depart_s: u32,
@@ -112,7 +156,11 @@ pub struct Itinerary {
     pub arrive: String,
     pub duration_s: u32,
     pub rides: u32,
+    /// On board, s.
+    pub ride_s: u32,
+    /// Walking, in the street and inside stations, s.
     pub walk_s: u32,
+    /// Waiting before each ride, s (`ride_s + walk_s + wait_s = duration_s`).
     pub wait_s: u32,
     pub cost_s: u32,
     pub step_free: Access,
@@ -128,75 +176,59 @@ pub struct Builder<'a> {
     pub query_s: u32,
 }
 
-fn worst(a: Access, b: Access) -> Access {
-    match (a, b) {
-        (Access::No, _) | (_, Access::No) => Access::No,
-        (Access::Unknown, _) | (_, Access::Unknown) => Access::Unknown,
-        _ => Access::Yes,
-    }
-}
-
-fn access_word(a: Access) -> &'static str {
-    match a {
-        Access::Yes => "accessible (1)",
-        Access::No => "not accessible (2)",
-        Access::Unknown => "no information (0 or empty)",
-    }
-}
-
 impl Builder<'_> {
     fn clock(&self, s: u32) -> String {
         seconds_to_clock(self.net.tz, self.net.date, s as i64)
     }
 
-    pub fn place(&self, s: StopIdx) -> Place {
+    pub fn place(&self, s: StopIdx) -> StopRef {
         let st = self.tt.stop(s);
-        Place {
+        StopRef {
             stop_id: st.id.clone(),
             feed: self.tt.feeds.get(st.feed.idx()).map(|f| f.name.clone()).unwrap_or_default(),
             name: st.name.clone(),
-            platform: st.platform_code.clone(),
+            platform_code: st.platform_code.clone(),
             lat: st.lat,
             lon: st.lon,
             station: self.tt.station_name(s).map(str::to_string),
         }
     }
 
-    fn stop_reason(&self, s: StopIdx, what: &str) -> (Access, String) {
+    fn stop_check(&self, s: StopIdx, role: StopRole) -> (Access, Fact) {
         let st = self.tt.stop(s);
-        let how = if st.wheelchair_inherited { format!(" (inherited from station {})", self.tt.station_name(s).unwrap_or("?")) } else { String::new() };
-        (st.wheelchair, format!("{what} stop {} ({}): wheelchair_boarding {}{how}", st.name, st.id, access_word(st.wheelchair)))
+        let inherited_from = if st.wheelchair_inherited { self.tt.station_name(s).map(str::to_string) } else { None };
+        (st.wheelchair, Fact::Stop { role, stop_id: st.id.clone(), name: st.name.clone(), wheelchair_boarding: st.wheelchair, inherited_from })
     }
 
     fn walk_leg(&self, from: StopIdx, to: StopIdx, f: Option<&Footpath>, depart_s: u32, d: u32) -> Leg {
         let walk = self.tt.walk(self.params.step_free.walk_profile());
-        let mut status = StepFreeStatus::new();
+        let mut status = StepFreeEvidence::new();
         let mut path = vec![];
         let mut kind = LegKind::Walk;
         if let Some(f) = f {
             if !f.street {
-                kind = LegKind::Transfer;
+                kind = LegKind::InStation;
             } else {
-                status.reasons.push("street walk: the feed does not describe streets; assumed step-free".into());
+                status.add(Access::Yes, Fact::Street);
             }
             for step in walk.steps(f) {
                 let pw = &self.tt.pathways[step.pathway.idx()];
-                let (a, why) = pathway_access(self.tt, step.pathway, self.walk_cfg);
-                status.add(a, why);
+                let (a, finding) = pathway_access(self.tt, step.pathway, self.walk_cfg);
+                status.add(a, Fact::Pathway { pathway_id: pw.id.clone(), pathway_mode: pw.mode.name().into(), finding });
                 let (x, y) = if step.reversed { (pw.to, pw.from) } else { (pw.from, pw.to) };
-                path.push(PathStep { pathway_id: pw.id.clone(), mode: pw.mode.name().into(), from: self.tt.stop(x).name.clone(), to: self.tt.stop(y).name.clone() });
+                path.push(PathwayStep { pathway_id: pw.id.clone(), pathway_mode: pw.mode.name().into(), from: self.tt.stop(x).name.clone(), to: self.tt.stop(y).name.clone() });
             }
             for s in [from, to] {
                 if self.tt.stop(s).kind == StopKind::Entrance {
-                    let (a, why) = self.stop_reason(s, "entrance");
-                    status.add(a, why);
+                    let (a, fact) = self.stop_check(s, StopRole::Entrance);
+                    status.add(a, fact);
                 }
             }
         }
         Leg {
             kind,
-            from: self.place(from),
-            to: self.place(to),
+            start: self.place(from),
+            end: self.place(to),
             depart_s,
             arrive_s: depart_s + d,
             depart: self.clock(depart_s),
@@ -207,9 +239,9 @@ impl Builder<'_> {
             trip_id: None,
             headsign: None,
             frequency_based: false,
-            intermediate_stops: vec![],
+            calls: vec![],
             distance_m: f.map(|f| f.length_m.round() as u32),
-            path,
+            pathways: path,
             step_free: status,
         }
     }
@@ -226,28 +258,28 @@ impl Builder<'_> {
         let trip = tt.trip(inst.trip);
         let route = &tt.routes[trip.route.idx()];
         let (from, to) = (net.stop(board as usize), net.stop(alight));
-        let mut status = StepFreeStatus::new();
-        status.add(trip.wheelchair, format!("trip {}: wheelchair_accessible {}", trip.id, access_word(trip.wheelchair)));
-        for (s, what) in [(from, "boarding"), (to, "alighting")] {
-            let (a, why) = self.stop_reason(s, what);
-            status.add(a, why);
+        let mut status = StepFreeEvidence::new();
+        status.add(trip.wheelchair, Fact::Trip { trip_id: trip.id.clone(), wheelchair_accessible: trip.wheelchair });
+        for (s, role) in [(from, StopRole::Boarding), (to, StopRole::Alighting)] {
+            let (a, fact) = self.stop_check(s, role);
+            status.add(a, fact);
         }
-        let intermediate_stops = (board as usize + 1..alight)
-            .map(|e| StopCall { stop_id: tt.stop(net.stop(e)).id.clone(), name: tt.stop(net.stop(e)).name.clone(), arrive_s: net.arr(e), depart_s: net.dep(e), arrive: self.clock(net.arr(e)), depart: self.clock(net.dep(e)) })
+        let calls = (board as usize + 1..alight)
+            .map(|e| Call { stop_id: tt.stop(net.stop(e)).id.clone(), name: tt.stop(net.stop(e)).name.clone(), arrive_s: net.arr(e), depart_s: net.dep(e), arrive: self.clock(net.arr(e)), depart: self.clock(net.dep(e)) })
             .collect();
         let (d, a) = (net.dep(board as usize), net.arr(alight));
         Leg {
             kind: LegKind::Ride,
-            from: self.place(from),
-            to: self.place(to),
+            start: self.place(from),
+            end: self.place(to),
             depart_s: d,
             arrive_s: a,
             depart: self.clock(d),
             arrive: self.clock(a),
             duration_s: a - d,
             wait_before_s,
-            route: Some(RouteInfo {
-                id: route.id.clone(),
+            route: Some(RouteRef {
+                route_id: route.id.clone(),
                 short_name: route.short_name.clone(),
                 long_name: route.long_name.clone(),
                 mode: route.mode.name().into(),
@@ -258,9 +290,9 @@ impl Builder<'_> {
             trip_id: Some(trip.id.clone()),
             headsign: trip.headsign.clone(),
             frequency_based: trip.frequency_based,
-            intermediate_stops,
+            calls,
             distance_m: None,
-            path: vec![],
+            pathways: vec![],
             step_free: status,
         }
     }
@@ -333,8 +365,8 @@ impl Builder<'_> {
     fn finish(&self, j: &Journey, legs: Vec<Leg>, depart_s: u32) -> Itinerary {
         let arrive_s = legs.last().map_or(depart_s, |l| l.arrive_s);
         let walk_s = legs.iter().filter(|l| l.kind != LegKind::Ride).map(|l| l.duration_s).sum();
-        let wait_s = legs.iter().map(|l| l.wait_before_s).sum();
-        let step_free = legs.iter().fold(Access::Yes, |a, l| worst(a, l.step_free.status));
+        let ride_s = legs.iter().filter(|l| l.kind == LegKind::Ride).map(|l| l.duration_s).sum();
+        let step_free = legs.iter().fold(Access::Yes, |a, l| a.worst(l.step_free.status));
         Itinerary {
             depart_s,
             arrive_s,
@@ -342,8 +374,11 @@ impl Builder<'_> {
             arrive: self.clock(arrive_s),
             duration_s: arrive_s - depart_s,
             rides: j.rides,
+            ride_s,
             walk_s,
-            wait_s,
+            // Whatever of the span is neither ride nor walk is waiting (before rides, and after
+            // an access walk that arrives early).
+            wait_s: (arrive_s - depart_s).saturating_sub(ride_s + walk_s),
             cost_s: j.cost_s,
             step_free,
             legs,

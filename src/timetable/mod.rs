@@ -49,6 +49,14 @@ pub enum Access {
 }
 
 impl Access {
+    /// The less accessible of the two: no over unknown over yes.
+    pub fn worst(self, other: Access) -> Access {
+        match (self, other) {
+            (Access::No, _) | (_, Access::No) => Access::No,
+            (Access::Unknown, _) | (_, Access::Unknown) => Access::Unknown,
+            _ => Access::Yes,
+        }
+    }
     pub fn from_gtfs(a: gtfs_structures::Availability) -> Access {
         use gtfs_structures::Availability::*;
         match a {

@@ -144,33 +144,42 @@ pub fn haversine_m(lat1: f64, lon1: f64, lat2: f64, lon2: f64) -> f64 {
     2.0 * R * a.sqrt().min(1.0).asin()
 }
 
-/// Accessibility of one pathway for a wheelchair user, with the reason.
-pub fn pathway_access(tt: &Timetable, p: PathwayIdx, cfg: &WalkConfig) -> (Access, String) {
+/// What a pathway's fields show about step-free use (the first problem found, in this order).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(tag = "finding", rename_all = "snake_case")]
+pub enum PathwayFinding {
+    /// No problem in the fields the feed gives.
+    StepFree,
+    /// `pathway_mode` 2.
+    Stairs,
+    /// `pathway_mode` 4.
+    Escalator,
+    /// `stair_count` other than 0.
+    StairCount { stair_count: i32 },
+    /// `max_slope` steeper than the limit (ratio).
+    TooSteep { max_slope: f32, limit: f32 },
+    /// `min_width` narrower than the limit (m).
+    TooNarrow { min_width_m: f32, limit_m: f32 },
+}
+
+/// Accessibility of one pathway for a wheelchair user, with what it was judged on.
+pub fn pathway_access(tt: &Timetable, p: PathwayIdx, cfg: &WalkConfig) -> (Access, PathwayFinding) {
     let pw = &tt.pathways[p.idx()];
-    let what = format!("pathway {} ({})", pw.id, pw.mode.name());
     match pw.mode {
-        PathwayMode::Stairs => return (Access::No, format!("{what}: stairs are not step-free")),
-        PathwayMode::Escalator => return (Access::No, format!("{what}: escalators are not usable by wheelchair")),
+        PathwayMode::Stairs => return (Access::No, PathwayFinding::Stairs),
+        PathwayMode::Escalator => return (Access::No, PathwayFinding::Escalator),
         _ => {}
     }
     if let Some(n) = pw.stair_count.filter(|&n| n != 0) {
-        return (Access::No, format!("{what}: stair_count {n}"));
+        return (Access::No, PathwayFinding::StairCount { stair_count: n });
     }
     if let Some(s) = pw.max_slope.filter(|s| s.abs() > cfg.max_step_free_slope) {
-        return (Access::No, format!("{what}: max_slope {s} is steeper than {}", cfg.max_step_free_slope));
+        return (Access::No, PathwayFinding::TooSteep { max_slope: s, limit: cfg.max_step_free_slope });
     }
     if let Some(w) = pw.min_width_m.filter(|&w| w < cfg.min_step_free_width_m) {
-        return (Access::No, format!("{what}: min_width {w} m is narrower than {} m", cfg.min_step_free_width_m));
+        return (Access::No, PathwayFinding::TooNarrow { min_width_m: w, limit_m: cfg.min_step_free_width_m });
     }
-    (Access::Yes, format!("{what}: step-free"))
-}
-
-fn worst(a: Access, b: Access) -> Access {
-    match (a, b) {
-        (Access::No, _) | (_, Access::No) => Access::No,
-        (Access::Unknown, _) | (_, Access::Unknown) => Access::Unknown,
-        _ => Access::Yes,
-    }
+    (Access::Yes, PathwayFinding::StepFree)
 }
 
 fn allowed(profile: WalkProfile, a: Access) -> bool {
@@ -233,7 +242,7 @@ pub fn rebuild(tt: &mut Timetable, cfg: &WalkConfig) {
                         let sb = &tt.stops[b as usize];
                         let d = haversine_m(sa.lat, sa.lon, sb.lat, sb.lon);
                         if d <= cfg.link_radius_m {
-                            let access = worst(entrance_access(tt, a), entrance_access(tt, b));
+                            let access = Access::worst(entrance_access(tt, a), entrance_access(tt, b));
                             edges[a as usize].push(Edge { to: b, length_m: (d * cfg.detour_factor) as f32, fixed_s: 0, min_s: 0, access, pathway: u32::MAX, reversed: false });
                         }
                     }
@@ -359,7 +368,7 @@ fn closure(
                 fp.length_m += e.length_m;
                 fp.fixed_s += e.fixed_s;
                 fp.min_s += e.min_s;
-                fp.access = worst(fp.access, e.access);
+                fp.access = Access::worst(fp.access, e.access);
                 if e.pathway == u32::MAX {
                     fp.street = true;
                 } else {

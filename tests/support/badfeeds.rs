@@ -174,7 +174,7 @@ fn loads(name: &'static str, f: Files, check: Check, source: &'static str) -> Ba
 pub fn first_a_to_c(engine: &mut timeweave::engine::Engine, feed: &str) -> Result<(String, String), String> {
     let q = timeweave::engine::PlanQuery { from: format!("{feed}:A"), to: format!("{feed}:C"), date: "2026-06-03".into(), time: "07:30".into(), ..Default::default() };
     let r = engine.plan(&q).map_err(|e| format!("plan {feed}:A → {feed}:C failed: {e}"))?;
-    let it = r.itineraries.first().ok_or_else(|| format!("no itinerary {feed}:A → {feed}:C: {:?}", r.no_journey))?;
+    let it = r.journeys.first().ok_or_else(|| format!("no itinerary {feed}:A → {feed}:C: {:?}", r.nothing_found))?;
     Ok((it.depart.clone(), it.arrive.clone()))
 }
 

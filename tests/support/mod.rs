@@ -95,7 +95,7 @@ pub fn plan(engine: &mut Engine, q: &PlanQuery, sf: StepFree) -> PlanResult {
 
 /// Departure clock texts of all itineraries.
 pub fn departures(r: &PlanResult) -> Vec<String> {
-    r.itineraries.iter().map(|i| i.depart.clone()).collect()
+    r.journeys.iter().map(|i| i.depart.clone()).collect()
 }
 
 /// GTFS time text `HH:MM:SS` for seconds after the service day's origin (hours may pass 24).

@@ -15,14 +15,14 @@
 #![allow(dead_code)]
 
 use chrono::{Duration, NaiveDate};
-use timeweave::journey::{Itinerary, LegKind, Place};
+use timeweave::journey::{Itinerary, LegKind, StopRef};
 use timeweave::route::search::{Params, StepFree};
 use timeweave::timetable::calendar::origin_offset_s;
 use timeweave::timetable::walking::haversine_m;
 use timeweave::timetable::{Access, PathwayMode, StopIdx, Timetable, TransferRule, NO_DROP_OFF, NO_PICKUP};
 
 /// The stop a place names (its feed and stop id).
-pub fn stop_of(tt: &Timetable, p: &Place) -> Result<StopIdx, String> {
+pub fn stop_of(tt: &Timetable, p: &StopRef) -> Result<StopIdx, String> {
     tt.stops
         .iter()
         .position(|s| s.id == p.stop_id && tt.feeds.get(s.feed.idx()).is_some_and(|f| f.name == p.feed))
@@ -30,7 +30,7 @@ pub fn stop_of(tt: &Timetable, p: &Place) -> Result<StopIdx, String> {
         .ok_or_else(|| format!("place {}:{} is no stop of the timetable", p.feed, p.stop_id))
 }
 
-fn same(a: &Place, b: &Place) -> bool {
+fn same(a: &StopRef, b: &StopRef) -> bool {
     a.stop_id == b.stop_id && a.feed == b.feed
 }
 
@@ -69,13 +69,13 @@ pub fn replay(tt: &Timetable, date: NaiveDate, query_s: u32, p: &Params, from: &
     if legs.is_empty() {
         return if from.iter().any(|s| to.contains(s)) { Ok(()) } else { Err("no legs, but origin and destination differ".into()) };
     }
-    let first = stop_of(tt, &legs[0].from)?;
-    let last = stop_of(tt, &legs[legs.len() - 1].to)?;
+    let first = stop_of(tt, &legs[0].start)?;
+    let last = stop_of(tt, &legs[legs.len() - 1].end)?;
     if !from.contains(&first) {
-        return Err(format!("starts at {}, not at the origin", legs[0].from.stop_id));
+        return Err(format!("starts at {}, not at the origin", legs[0].start.stop_id));
     }
     if !to.contains(&last) {
-        return Err(format!("ends at {}, not at the destination", legs[legs.len() - 1].to.stop_id));
+        return Err(format!("ends at {}, not at the destination", legs[legs.len() - 1].end.stop_id));
     }
     if legs[0].depart_s < query_s {
         return Err(format!("leaves at {} before the query time {query_s}", legs[0].depart_s));
@@ -87,22 +87,22 @@ pub fn replay(tt: &Timetable, date: NaiveDate, query_s: u32, p: &Params, from: &
     let mut prev_ride: Option<(StopIdx, u32)> = None; // (alighting stop, arrival) of the last ride
     let mut walked_since_ride = false;
     for (i, leg) in legs.iter().enumerate() {
-        let at = |m: String| format!("leg {i} ({:?} {}→{}): {m}", leg.kind, leg.from.stop_id, leg.to.stop_id);
+        let at = |m: String| format!("leg {i} ({:?} {}→{}): {m}", leg.kind, leg.start.stop_id, leg.end.stop_id);
         if leg.arrive_s < leg.depart_s || leg.duration_s != leg.arrive_s - leg.depart_s {
             return Err(at(format!("times {}–{} with duration {}", leg.depart_s, leg.arrive_s, leg.duration_s)));
         }
         if i > 0 {
             let before = &legs[i - 1];
-            if !same(&before.to, &leg.from) {
-                return Err(at(format!("starts at {} but the previous leg ended at {}", leg.from.stop_id, before.to.stop_id)));
+            if !same(&before.end, &leg.start) {
+                return Err(at(format!("starts at {} but the previous leg ended at {}", leg.start.stop_id, before.end.stop_id)));
             }
             if leg.depart_s < before.arrive_s {
                 return Err(at(format!("leaves at {} before the previous leg arrives at {}", leg.depart_s, before.arrive_s)));
             }
         }
-        let (a, b) = (stop_of(tt, &leg.from)?, stop_of(tt, &leg.to)?);
+        let (a, b) = (stop_of(tt, &leg.start)?, stop_of(tt, &leg.end)?);
         match leg.kind {
-            LegKind::Walk | LegKind::Transfer => {
+            LegKind::Walk | LegKind::InStation => {
                 if a == b {
                     return Err(at("a walk from a stop to itself".into()));
                 }
@@ -123,7 +123,7 @@ pub fn replay(tt: &Timetable, date: NaiveDate, query_s: u32, p: &Params, from: &
                     return Err(at("a change along a link transfers.txt forbids (transfer_type 3)".into()));
                 }
                 if strict {
-                    for step in &leg.path {
+                    for step in &leg.pathways {
                         let pw = tt.pathways.iter().find(|pw| pw.id == step.pathway_id && tt.stop(pw.from).feed == sa.feed).ok_or_else(|| at(format!("pathway {} is not in the feed", step.pathway_id)))?;
                         if matches!(pw.mode, PathwayMode::Stairs | PathwayMode::Escalator) {
                             return Err(at(format!("step-free walk uses pathway {} ({:?})", pw.id, pw.mode)));
@@ -139,7 +139,7 @@ pub fn replay(tt: &Timetable, date: NaiveDate, query_s: u32, p: &Params, from: &
             }
             LegKind::Ride => {
                 let trip_id = leg.trip_id.as_deref().ok_or_else(|| at("a ride without trip_id".into()))?;
-                let feed = tt.feeds.iter().position(|f| f.name == leg.from.feed).ok_or_else(|| at("unknown feed".into()))?;
+                let feed = tt.feeds.iter().position(|f| f.name == leg.start.feed).ok_or_else(|| at("unknown feed".into()))?;
                 let meta = &tt.feeds[feed];
                 let mut found = None;
                 'search: for t in meta.trip_range.0..meta.trip_range.1 {
@@ -167,15 +167,15 @@ pub fn replay(tt: &Timetable, date: NaiveDate, query_s: u32, p: &Params, from: &
                         }
                     }
                 }
-                let (t, e, f) = found.ok_or_else(|| at(format!("no trip {trip_id} running around {date} leaves {} at {} and reaches {} at {}", leg.from.stop_id, leg.depart_s, leg.to.stop_id, leg.arrive_s)))?;
+                let (t, e, f) = found.ok_or_else(|| at(format!("no trip {trip_id} running around {date} leaves {} at {} and reaches {} at {}", leg.start.stop_id, leg.depart_s, leg.end.stop_id, leg.arrive_s)))?;
                 if tt.ev_flags[e] & NO_PICKUP != 0 {
                     return Err(at("boards where pickup_type is 1 (no pickup)".into()));
                 }
                 if tt.ev_flags[f] & NO_DROP_OFF != 0 {
                     return Err(at("alights where drop_off_type is 1 (no drop-off)".into()));
                 }
-                if leg.intermediate_stops.len() != f - e - 1 {
-                    return Err(at(format!("{} intermediate stops listed, the trip has {}", leg.intermediate_stops.len(), f - e - 1)));
+                if leg.calls.len() != f - e - 1 {
+                    return Err(at(format!("{} intermediate stops listed, the trip has {}", leg.calls.len(), f - e - 1)));
                 }
                 if strict {
                     let trip = &tt.trips[t as usize];

@@ -4,24 +4,53 @@ use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
-use timeweave::engine::{Engine, PlanQuery, PlanResult};
-use timeweave::route::search::StepFree;
+use timeweave::engine::{Engine, PlanQuery};
+use timeweave::route::StepFree;
 
 #[derive(Parser)]
-#[command(name = "timeweave", version, about = "Journey planning and service connectivity over GTFS timetables")]
+#[command(name = "timeweave", version, about = "Journey planning and service connectivity over GTFS timetables", after_help = TIMES)]
 struct Cli {
     #[command(subcommand)]
     command: Command,
 }
 
+/// How times read, for every command's help.
+const TIMES: &str = "Times: a departure is local clock time (HH:MM) in the first feed's agency_timezone on the service date. \
+Durations print in whole minutes, rounded up for walks and reach; *_s fields in --json are seconds, and *_s times count from noon minus 12 h of the service date (the GTFS service-day origin).";
+
+/// Step-free profile of a search.
+#[derive(Clone, Copy, clap::ValueEnum)]
+enum StepFreeArg {
+    /// Only trips, stops and pathways the feed marks accessible (1).
+    Strict,
+    /// Also elements whose accessibility the feed leaves unknown (0 or empty); such legs are flagged.
+    Lenient,
+}
+
+fn step_free_of(a: Option<StepFreeArg>) -> StepFree {
+        match a {
+            None => StepFree::Off,
+            Some(StepFreeArg::Strict) => StepFree::Strict,
+            Some(StepFreeArg::Lenient) => StepFree::Lenient,
+        }
+}
+
+#[derive(clap::Args)]
+struct Feeds {
+    /// GTFS feed: a .zip file or a folder of .txt files; repeat to load several feeds together.
+    #[arg(long = "feed", required = true, value_name = "FILE")]
+    feeds: Vec<PathBuf>,
+}
+
 #[derive(Subcommand)]
 enum Command {
-    /// Plan journeys between two stops.
+    /// Journeys between two stops: the next departures after a time, each with its legs and
+    /// where its time goes (on board, walking, waiting).
+    #[command(after_help = TIMES)]
     Plan {
-        /// GTFS feed: a .zip file or a folder of .txt files; repeat to merge feeds.
-        #[arg(long = "feed", required = true)]
-        feeds: Vec<PathBuf>,
-        /// Origin: stop id, feed:stop id, or (part of) a stop name.
+        #[command(flatten)]
+        feeds: Feeds,
+        /// Origin: stop id, feed:stop_id when two feeds share the id, or (part of) a stop name.
         #[arg(long)]
         from: String,
         /// Destination, as --from.
@@ -30,67 +59,77 @@ enum Command {
         /// Service date, YYYY-MM-DD.
         #[arg(long)]
         date: String,
-        /// Departure, local clock time HH:MM.
+        /// Earliest departure, local clock time HH:MM.
         #[arg(long)]
         at: String,
-        /// Step-free only: trips, stops and station paths marked wheelchair-accessible.
+        /// Step-free journeys only; `--step-free` alone means strict.
+        #[arg(long, value_enum, num_args = 0..=1, default_missing_value = "strict", value_name = "PROFILE")]
+        step_free: Option<StepFreeArg>,
+        /// How many successive journeys to list (each leaves after the one before), 1–10.
+        #[arg(long, default_value_t = 3, value_name = "N")]
+        next: usize,
+        /// Longest single walk between stops, metres [default: 800].
+        #[arg(long, value_name = "M")]
+        walk_limit: Option<f64>,
+        /// Walking speed, m/s [default: 1.3; step-free 0.8].
+        #[arg(long, value_name = "MPS")]
+        walking_speed: Option<f64>,
+        /// Minutes added to the cost of each change of vehicle when ranking journeys [default: 5].
+        #[arg(long, value_name = "MIN")]
+        change_penalty: Option<u32>,
+        /// Longest journey searched, minutes [default: 240]. A journey beyond it is still shown, with a note.
+        #[arg(long, value_name = "MIN")]
+        max_duration: Option<u32>,
+        /// Also list, for each number of rides, the earliest arrival.
         #[arg(long)]
-        step_free: bool,
-        /// With --step-free: also allow elements whose accessibility is unknown (flagged).
-        #[arg(long)]
-        lenient: bool,
-        /// Number of options (next departures).
-        #[arg(long, default_value_t = 3)]
-        options: usize,
-        /// Longest walk per link, metres.
-        #[arg(long)]
-        max_walk: Option<f64>,
-        /// Walking speed, m/s.
-        #[arg(long)]
-        walk_speed: Option<f64>,
-        /// Penalty per boarding after the first, minutes.
-        #[arg(long)]
-        transfer_penalty: Option<u32>,
-        /// Also list the Pareto set over arrival time and number of rides.
-        #[arg(long)]
-        pareto: bool,
+        fewest_rides: bool,
         /// Print the result as JSON (the shape documented in DEVELOPERS.md).
         #[arg(long)]
         json: bool,
     },
-    /// Find stops by name, id or code.
+    /// Find stops by name, id or code (case- and accent-insensitive).
     Stops {
-        #[arg(long = "feed", required = true)]
-        feeds: Vec<PathBuf>,
+        #[command(flatten)]
+        feeds: Feeds,
+        /// Text to look for in stop names, ids and codes.
         #[arg(long)]
         search: String,
+        /// Most stops listed.
         #[arg(long, default_value_t = 20)]
         limit: usize,
+        /// Print the matches as JSON.
         #[arg(long)]
         json: bool,
     },
-    /// Everything reachable from a stop within a time limit.
+    /// Every stop reachable from a stop within a time limit (earliest arrival, no change penalty).
+    #[command(after_help = TIMES)]
     Reach {
-        #[arg(long = "feed", required = true)]
-        feeds: Vec<PathBuf>,
+        #[command(flatten)]
+        feeds: Feeds,
+        /// Origin, as for `plan --from`.
         #[arg(long)]
         from: String,
+        /// Service date, YYYY-MM-DD.
         #[arg(long)]
         date: String,
+        /// Departure, local clock time HH:MM.
         #[arg(long)]
         at: String,
-        /// Time limit, minutes.
+        /// Time limit, minutes (arrival minus departure, rounded up).
         #[arg(long, default_value_t = 45)]
         minutes: u32,
-        #[arg(long)]
-        step_free: bool,
+        /// Step-free reach only; `--step-free` alone means strict.
+        #[arg(long, value_enum, num_args = 0..=1, default_missing_value = "strict", value_name = "PROFILE")]
+        step_free: Option<StepFreeArg>,
+        /// Print the stops reached as JSON.
         #[arg(long)]
         json: bool,
     },
-    /// Load feeds and print what was read, with warnings.
+    /// Load feeds and print what was read, with every warning (file, line, field).
     Check {
-        #[arg(long = "feed", required = true)]
-        feeds: Vec<PathBuf>,
+        #[command(flatten)]
+        feeds: Feeds,
+        /// Print the feed reports as JSON.
         #[arg(long)]
         json: bool,
     },
@@ -99,20 +138,23 @@ enum Command {
         /// small (≈ 50 k stop times), region (≈ 600 k) or metro (≈ 5 M).
         #[arg(long, default_value = "small")]
         preset: String,
+        /// Seed of the generator: the same preset and seed give the same feed.
         #[arg(long, default_value_t = 1)]
         seed: u64,
-        #[arg(long)]
+        /// Zip file to write (replaced whole, or left untouched on error).
+        #[arg(long, value_name = "FILE")]
         out: PathBuf,
     },
-    /// Serve the web page (www/) and the WASM build on localhost.
+    /// Serve the web page (or any folder) on 127.0.0.1 only.
     Serve {
+        /// Port to listen on; 0 picks a free one.
         #[arg(long, default_value_t = 8080)]
         port: u16,
         /// Folder to serve.
         #[arg(long, default_value = "www")]
         root: PathBuf,
-        /// Extra feeds offered to the page.
-        #[arg(long = "feed")]
+        /// Extra GTFS zips offered to the page under feeds/ (repeatable).
+        #[arg(long = "feed", value_name = "FILE")]
         feeds: Vec<PathBuf>,
     },
 }
@@ -158,35 +200,32 @@ fn json<T: serde::Serialize>(v: &T) -> Result<(), String> {
 
 fn run(cli: Cli) -> Result<(), String> {
     match cli.command {
-        Command::Plan { feeds, from, to, date, at, step_free, lenient, options, max_walk, walk_speed, transfer_penalty, pareto, json: as_json } => {
-            let mut engine = load(&feeds, as_json)?;
+        Command::Plan { feeds, from, to, date, at, step_free, next, walk_limit, walking_speed, change_penalty, max_duration, fewest_rides, json: as_json } => {
+            let mut engine = load(&feeds.feeds, as_json)?;
             let q = PlanQuery {
                 from,
                 to,
                 date,
                 time: at,
-                step_free: match (step_free, lenient) {
-                    (false, _) => StepFree::Off,
-                    (true, false) => StepFree::Strict,
-                    (true, true) => StepFree::Lenient,
-                },
-                max_walk_m: max_walk,
-                walk_speed_mps: walk_speed,
-                transfer_penalty_s: transfer_penalty.map(|m| m * 60),
-                options: Some(options),
-                pareto,
+                step_free: step_free_of(step_free),
+                walk_limit_m: walk_limit,
+                walking_speed_mps: walking_speed,
+                change_penalty_s: change_penalty.map(|m| m * 60),
+                max_duration_s: max_duration.map(|m| m * 60),
+                next: Some(next),
+                fewest_rides,
                 ..PlanQuery::default()
             };
             let result = engine.plan(&q).map_err(|e| format!("error: {e}"))?;
             if as_json {
-                json(&result)
+                json(&timeweave_present::plan_json(&result))
             } else {
-                say(present_plan(&result).trim_end());
+                say(timeweave_present::plan_text(&result).trim_end());
                 Ok(())
             }
         }
         Command::Stops { feeds, search, limit, json: as_json } => {
-            let engine = load(&feeds, as_json)?;
+            let engine = load(&feeds.feeds, as_json)?;
             let hits = engine.search_stops(&search, limit);
             if as_json {
                 return json(&hits);
@@ -204,8 +243,8 @@ fn run(cli: Cli) -> Result<(), String> {
             Ok(())
         }
         Command::Reach { feeds, from, date, at, minutes, step_free, json: as_json } => {
-            let mut engine = load(&feeds, as_json)?;
-            let sf = if step_free { StepFree::Strict } else { StepFree::Off };
+            let mut engine = load(&feeds.feeds, as_json)?;
+            let sf = step_free_of(step_free);
             let reach = engine.reach(&from, &date, &at, sf, minutes).map_err(|e| format!("error: {e}"))?;
             if as_json {
                 return json(&reach);
@@ -217,7 +256,7 @@ fn run(cli: Cli) -> Result<(), String> {
             Ok(())
         }
         Command::Check { feeds, json: as_json } => {
-            let engine = load(&feeds, true)?;
+            let engine = load(&feeds.feeds, true)?;
             if as_json {
                 return json(&engine.tt.feeds);
             }
@@ -234,8 +273,7 @@ fn run(cli: Cli) -> Result<(), String> {
         }
         Command::Synth { preset, seed, out } => {
             let preset: timeweave_synth::Preset = preset.parse().map_err(|e| format!("error: {e}"))?;
-            let file = std::fs::File::create(&out).map_err(|e| format!("error: cannot create {}: {e}", out.display()))?;
-            let stats = timeweave_synth::write_feed(preset, seed, std::io::BufWriter::new(file)).map_err(|e| format!("error: {e}"))?;
+            let stats = timeweave_disk::write_atomically(&out, |w| timeweave_synth::write_feed(preset, seed, w)).map_err(|e| format!("error: cannot write {}: {e}", out.display()))?;
             println!("{}: {} stops, {} routes, {} trips, {} stop times, {} bytes", out.display(), stats.stops, stats.routes, stats.trips, stats.stop_times, stats.bytes);
             Ok(())
         }
@@ -245,61 +283,4 @@ fn run(cli: Cli) -> Result<(), String> {
 
 fn opt<T: std::fmt::Display>(v: Option<T>) -> String {
     v.map_or("?".into(), |v| v.to_string())
-}
-
-fn present_plan(r: &PlanResult) -> String {
-    use std::fmt::Write;
-    let mut out = String::new();
-    let _ = writeln!(out, "From {} to {} on {} at {}{}", r.query.from, r.query.to, r.query.date, r.query.time, match r.query.step_free {
-        StepFree::Off => "",
-        StepFree::Strict => " (step-free)",
-        StepFree::Lenient => " (step-free, lenient)",
-    });
-    if let Some(n) = &r.no_journey {
-        let _ = writeln!(out, "No journey: {}", n.message);
-        for b in &n.blocking {
-            let _ = writeln!(out, "  blocked by: {b}");
-        }
-    }
-    for (i, it) in r.itineraries.iter().enumerate() {
-        let _ = writeln!(out, "\nOption {}: {} → {}, {} min, {} ride{}, walk {} min, step-free: {:?}", i + 1, it.depart, it.arrive, it.duration_s / 60, it.rides, if it.rides == 1 { "" } else { "s" }, it.walk_s.div_ceil(60), it.step_free);
-        for leg in &it.legs {
-            let place = |p: &timeweave::journey::Place| match &p.platform {
-                Some(pl) => format!("{} (platform {pl})", p.name),
-                None => p.name.clone(),
-            };
-            match &leg.route {
-                Some(route) => {
-                    let wait = if leg.wait_before_s >= 60 { format!("  wait {} min, then", leg.wait_before_s / 60) } else { String::new() };
-                    if !wait.is_empty() {
-                        let _ = writeln!(out, "{wait}");
-                    }
-                    let _ = writeln!(out, "  {} {} {} {} → {} {}  {} {}{}", leg.depart, place(&leg.from), route.mode, route.short_name, leg.arrive, place(&leg.to), leg.headsign.as_deref().map(|h| format!("towards {h}")).unwrap_or_default(), if leg.intermediate_stops.is_empty() { String::new() } else { format!("({} stops between)", leg.intermediate_stops.len()) }, if leg.frequency_based { " [frequency-based: times are estimates]" } else { "" });
-                }
-                None => {
-                    let how = if leg.path.is_empty() { String::new() } else { format!(" via {}", leg.path.iter().map(|p| p.mode.as_str()).collect::<Vec<_>>().join(", ")) };
-                    let _ = writeln!(out, "  {} walk {} min {} → {}{}{}", leg.depart, leg.duration_s.div_ceil(60), place(&leg.from), place(&leg.to), leg.distance_m.map(|d| format!(", {d} m")).unwrap_or_default(), how);
-                }
-            }
-            if r.query.step_free != StepFree::Off {
-                let _ = writeln!(out, "      step-free: {:?} — {}", leg.step_free.status, leg.step_free.reasons.join("; "));
-            }
-        }
-    }
-    if !r.pareto.is_empty() {
-        let _ = writeln!(out, "\nFewer rides or earlier arrival (Pareto set):");
-        for it in &r.pareto {
-            let _ = writeln!(out, "  {} ride{}: {} → {} ({} min)", it.rides, if it.rides == 1 { "" } else { "s" }, it.depart, it.arrive, it.duration_s / 60);
-        }
-    }
-    if let Some(x) = r.step_free_extra_s {
-        let _ = writeln!(out, "\nThe step-free journey arrives {} min {} than the standard one.", x.abs() / 60, if x >= 0 { "later" } else { "earlier" });
-    }
-    if r.query.step_free != StepFree::Off {
-        let _ = writeln!(out, "\nCaution: results reflect the feed's data, which may be incomplete or out of date. Confirm on site and with the operator; local codes and licensed practice prevail.");
-    }
-    for w in &r.warnings {
-        let _ = writeln!(out, "note: {w}");
-    }
-    out
 }

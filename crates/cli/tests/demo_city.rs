@@ -45,7 +45,7 @@ fn ride(it: &Value) -> &Value {
 fn case_a_standard_and_step_free_differ_by_the_trips_wheelchair_accessible() {
     // demo-data/README.md, case A: standard R1_WKD_0_0754 dep 08:03 arr 08:34.
     let standard = cli_json(&[]);
-    let it = &standard["itineraries"][0];
+    let it = &standard["journeys"][0];
     assert_eq!((it["depart"].as_str(), it["arrive"].as_str()), (Some("08:03"), Some("08:34")), "{it}");
     let r = ride(it);
     assert_eq!(r["trip_id"], "R1_WKD_0_0754");
@@ -53,29 +53,35 @@ fn case_a_standard_and_step_free_differ_by_the_trips_wheelchair_accessible() {
     // whose wheelchair_accessible is 2.
     assert_eq!(it["step_free"], "no");
     assert_eq!(r["step_free"]["status"], "no");
-    let reasons: Vec<&str> = r["step_free"]["reasons"].as_array().expect("reasons").iter().filter_map(Value::as_str).collect();
-    assert!(reasons.iter().any(|w| w.contains("R1_WKD_0_0754") && w.contains("wheelchair_accessible") && w.contains("(2)")), "{reasons:?}");
+    // The check is data (element, GTFS field, value) with its words beside it.
+    let checks = r["step_free"]["checks"].as_array().expect("checks");
+    let trip = checks.iter().find(|c| c["element"] == "trip").expect("a trip check");
+    assert_eq!((trip["trip_id"].as_str(), trip["wheelchair_accessible"].as_str(), trip["verdict"].as_str()), (Some("R1_WKD_0_0754"), Some("no"), Some("no")));
+    let text = trip["text"].as_str().expect("text");
+    assert!(text.contains("R1_WKD_0_0754") && text.contains("wheelchair_accessible") && text.contains("(2)"), "{text}");
     assert!(standard["step_free_extra_s"].is_null());
 
     // README, case A strict: R1_WKD_0_0854 (wheelchair_accessible 1) dep 09:03 arr 09:34, +3600 s.
     let strict = cli_json(&["--step-free"]);
-    let it = &strict["itineraries"][0];
+    let it = &strict["journeys"][0];
     assert_eq!((it["depart"].as_str(), it["arrive"].as_str()), (Some("09:03"), Some("09:34")), "{it}");
     assert_eq!(ride(it)["trip_id"], "R1_WKD_0_0854");
     assert_eq!(it["step_free"], "yes");
-    assert_eq!(strict["query"]["step_free"], "strict");
+    assert_eq!(strict["asked"]["step_free"], "strict");
     let extra = strict["step_free_extra_s"].as_i64().expect("step_free_extra_s is a number");
     assert!(extra > 0);
     assert_eq!(extra, 3600);
 
     // README, case A lenient: R1_WKD_0_0824 (wheelchair_accessible empty) dep 08:33 arr 09:04, +1800 s.
-    let lenient = cli_json(&["--step-free", "--lenient"]);
-    let it = &lenient["itineraries"][0];
+    let lenient = cli_json(&["--step-free", "lenient"]);
+    let it = &lenient["journeys"][0];
     assert_eq!((it["depart"].as_str(), it["arrive"].as_str()), (Some("08:33"), Some("09:04")), "{it}");
     assert_eq!(ride(it)["trip_id"], "R1_WKD_0_0824");
     assert_eq!(it["step_free"], "unknown");
     assert_eq!(lenient["step_free_extra_s"], 1800);
-    assert!(!lenient["warnings"].as_array().expect("warnings").is_empty(), "lenient results relying on unknown values are flagged");
+    let notes = lenient["notes"].as_array().expect("notes");
+    assert!(notes.iter().any(|n| n["code"] == "lenient_unknown_used" && n["text"].is_string()), "lenient results relying on unknown values are flagged: {notes:?}");
+    assert!(lenient["caution"].as_str().is_some_and(|c| c.contains("Confirm on site")), "step-free JSON carries the caution");
 }
 
 fn keys(v: &Value) -> Vec<&str> {
@@ -94,35 +100,41 @@ fn has_all(v: &Value, documented: &[&str]) {
 fn json_output_has_the_documented_fields() {
     let r = cli_json(&[]);
     // DEVELOPERS.md, "The result shape".
-    has_all(&r, &["query", "itineraries", "no_journey", "step_free_extra_s", "warnings"]);
-    has_all(&r["query"], &["from", "to", "date", "time", "step_free"]);
-    assert_eq!((r["query"]["date"].as_str(), r["query"]["time"].as_str(), r["query"]["step_free"].as_str()), (Some("2026-12-02"), Some("08:00"), Some("off")));
-    assert!(r["no_journey"].is_null());
-    let its = r["itineraries"].as_array().expect("itineraries");
+    has_all(&r, &["asked", "journeys", "nothing_found", "step_free_extra_s", "fewest_rides", "notes"]);
+    has_all(&r["asked"], &["from", "to", "date", "time", "step_free", "walk_limit_m", "walking_speed_mps", "change_penalty_s", "max_duration_s", "next", "fewest_rides"]);
+    assert_eq!((r["asked"]["date"].as_str(), r["asked"]["time"].as_str(), r["asked"]["step_free"].as_str()), (Some("2026-12-02"), Some("08:00"), Some("off")));
+    assert!(r["nothing_found"].is_null());
+    let its = r["journeys"].as_array().expect("journeys");
     assert!(!its.is_empty() && its.len() <= 3, "the CLI asks for 3 options by default");
     for it in its {
-        has_all(it, &["depart_s", "arrive_s", "depart", "arrive", "duration_s", "rides", "walk_s", "wait_s", "cost_s", "step_free", "legs"]);
+        has_all(it, &["depart_s", "arrive_s", "depart", "arrive", "duration_s", "rides", "ride_s", "walk_s", "wait_s", "cost_s", "step_free", "legs"]);
         let (d, a) = (it["depart_s"].as_u64().expect("depart_s"), it["arrive_s"].as_u64().expect("arrive_s"));
         assert_eq!(it["duration_s"].as_u64(), Some(a - d));
+        // Where the time goes adds up to the whole journey (DEVELOPERS.md, the result shape).
+        let split = ["ride_s", "walk_s", "wait_s"].iter().map(|k| it[*k].as_u64().expect("seconds")).sum::<u64>();
+        assert_eq!(split, a - d, "{it}");
         for leg in it["legs"].as_array().expect("legs") {
-            has_all(leg, &["kind", "from", "to", "depart_s", "arrive_s", "depart", "arrive", "duration_s", "wait_before_s", "route", "trip_id", "headsign", "frequency_based", "intermediate_stops", "distance_m", "path", "step_free"]);
-            has_all(&leg["step_free"], &["status", "reasons"]);
-            for place in [&leg["from"], &leg["to"]] {
-                has_all(place, &["stop_id", "name", "platform", "lat", "lon", "station"]);
+            has_all(leg, &["kind", "start", "end", "depart_s", "arrive_s", "depart", "arrive", "duration_s", "wait_before_s", "route", "trip_id", "headsign", "frequency_based", "calls", "distance_m", "pathways", "step_free"]);
+            has_all(&leg["step_free"], &["status", "checks"]);
+            for check in leg["step_free"]["checks"].as_array().expect("checks") {
+                has_all(check, &["element", "verdict", "text"]);
             }
-            assert!(["walk", "ride", "transfer"].contains(&leg["kind"].as_str().expect("kind")));
+            for stop in [&leg["start"], &leg["end"]] {
+                has_all(stop, &["stop_id", "feed", "name", "platform_code", "lat", "lon", "station"]);
+            }
+            assert!(["walk", "ride", "in_station"].contains(&leg["kind"].as_str().expect("kind")));
         }
     }
     let ride = ride(&its[0]);
-    has_all(&ride["route"], &["id", "short_name", "long_name", "mode", "color", "text_color"]);
+    has_all(&ride["route"], &["route_id", "short_name", "long_name", "mode", "color", "text_color"]);
     // demo-data/README.md route table: R1, rail, colours 6D1A47 / FFFFFF.
     assert_eq!((ride["route"]["short_name"].as_str(), ride["route"]["mode"].as_str()), (Some("R1"), Some("rail")));
     assert_eq!((ride["route"]["color"].as_str(), ride["route"]["text_color"].as_str()), (Some("#6D1A47"), Some("#FFFFFF")));
-    assert_eq!((ride["from"]["stop_id"].as_str(), ride["to"]["stop_id"].as_str()), (Some("ORR_QSF"), Some("ORR_TLM")));
+    assert_eq!((ride["start"]["stop_id"].as_str(), ride["end"]["stop_id"].as_str()), (Some("ORR_QSF"), Some("ORR_TLM")));
     // demo-data/README.md: R1 runs Quistenford – Oskerveld West – Oskerveld Central – Oskerveld East – Tollimere.
-    let calls: Vec<&str> = ride["intermediate_stops"].as_array().expect("intermediate_stops").iter().filter_map(|s| s["name"].as_str()).collect();
+    let calls: Vec<&str> = ride["calls"].as_array().expect("calls").iter().filter_map(|s| s["name"].as_str()).collect();
     assert_eq!(calls, ["Oskerveld West", "Oskerveld Central", "Oskerveld East"]);
-    has_all(&ride["intermediate_stops"][0], &["stop_id", "name", "arrive", "depart", "arrive_s", "depart_s"]);
+    has_all(&ride["calls"][0], &["stop_id", "name", "arrive", "depart", "arrive_s", "depart_s"]);
 }
 
 #[test]

@@ -59,17 +59,19 @@ pub fn load_feed<'e>(engine: &'e mut Engine, path: &Path, progress: Progress) ->
 /// Writes `path` whole or not at all: the bytes go to a temporary file in the same folder,
 /// which replaces `path` only once `write` has succeeded and the data are flushed. A failure
 /// leaves no partial file behind.
-pub fn write_atomically(path: &Path, write: impl FnOnce(&mut dyn Write) -> io::Result<()>) -> io::Result<()> {
+/// The writer is buffered and seekable (a zip writer needs that).
+pub fn write_atomically<T>(path: &Path, write: impl FnOnce(&mut io::BufWriter<&mut File>) -> io::Result<T>) -> io::Result<T> {
     let dir = path.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or(Path::new("."));
     let mut tmp = tempfile::NamedTempFile::new_in(dir)?;
-    {
+    let value = {
         let mut out = io::BufWriter::new(tmp.as_file_mut());
-        write(&mut out)?;
+        let value = write(&mut out)?;
         out.flush()?;
-    }
+        value
+    };
     tmp.as_file().sync_all()?;
     tmp.persist(path).map_err(|e| e.error)?;
-    Ok(())
+    Ok(value)
 }
 
 #[cfg(test)]
@@ -80,13 +82,13 @@ mod tests {
     fn a_failed_write_leaves_nothing() {
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join("out.csv");
-        let r = write_atomically(&path, &mut |w: &mut dyn Write| {
+        let r: io::Result<()> = write_atomically(&path, |w| {
             w.write_all(b"half")?;
             Err(io::Error::other("stopped"))
         });
         assert!(r.is_err());
         assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 0, "no partial or temporary file is left");
-        write_atomically(&path, &mut |w: &mut dyn Write| w.write_all(b"whole")).unwrap();
+        write_atomically(&path, |w| w.write_all(b"whole")).unwrap();
         assert_eq!(std::fs::read(&path).unwrap(), b"whole");
     }
 }

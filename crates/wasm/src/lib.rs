@@ -1,5 +1,6 @@
-//! The WASM shell: the only code that knows about JavaScript. Values cross as plain objects
-//! through serde-wasm-bindgen, in the shapes documented in DEVELOPERS.md.
+//! The WASM shell: the only crate that knows about JavaScript. Values cross as plain objects
+//! through serde-wasm-bindgen, in the shapes documented in DEVELOPERS.md; plans carry the words
+//! of `timeweave-present`, the same as the command line's `--json`.
 
 use serde::Serialize;
 use wasm_bindgen::prelude::*;
@@ -101,7 +102,7 @@ impl Engine {
     /// bad date); "no journey" is a normal result.
     pub fn plan(&mut self, query: JsValue) -> Result<JsValue, JsValue> {
         let q: PlanQuery = serde_wasm_bindgen::from_value(query).map_err(|e| JsValue::from_str(&format!("bad query: {e}")))?;
-        self.core.plan(&q).map_err(failure).and_then(|r| to_js(&r))
+        self.core.plan(&q).map_err(failure).and_then(|r| to_js(&timeweave_present::plan_json(&r)))
     }
 
     /// Every platform reached, earliest first. The list can hold tens of thousands of objects, so
