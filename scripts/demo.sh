@@ -8,7 +8,7 @@ echo "== Standard journey, Quistenford → Tollimere, Wednesday 2026-12-02 08:00
 target/release/timeweave plan "${FEEDS[@]}" --from Quistenford --to Tollimere --date 2026-12-02 --at 08:00
 echo
 echo "== The same journey, step-free"
-target/release/timeweave plan "${FEEDS[@]}" --from Quistenford --to Tollimere --date 2026-12-02 --at 08:00 --step-free --options 1
+target/release/timeweave plan "${FEEDS[@]}" --from Quistenford --to Tollimere --date 2026-12-02 --at 08:00 --step-free --next 1
 echo
 PORT=${PORT:-8080}
 echo "== Serving the page: open http://127.0.0.1:$PORT/ (Ctrl-C stops)"

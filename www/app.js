@@ -4,7 +4,8 @@
 //
 // The query lives in the address, as URLSearchParams in location.hash:
 //   from, to (stop ids), date (YYYY-MM-DD), time (HH:MM), sf (off|strict|lenient),
-//   walk (m), speed (m/s), pen (min per change), n (options), src (demo|own)
+//   walk (m), speed (m/s), pen (min per change), max (longest journey, min), n (journeys),
+//   src (demo|own)
 // Empty limit fields are left out and take the engine's defaults. Opening such an address runs
 // the query once feeds are loaded. Decision: when the address holds a query and no feed is
 // loaded, the page loads the bundled demo city by itself — unless src=own, meaning the link was
@@ -37,11 +38,13 @@ const ui = {
   walk: $('walk'),
   speed: $('speed'),
   pen: $('pen'),
+  max: $('max'),
   n: $('n'),
   plan: $('plan'),
   swap: $('swap'),
   resultsPanel: $('results-panel'),
   resultsEmpty: $('results-empty'),
+  timeKey: $('time-key'),
   results: $('results'),
   sfNotes: $('sf-notes'),
   sfExtra: $('sf-extra'),
@@ -433,7 +436,7 @@ async function refreshSketch() {
 }
 
 function redrawSketch() {
-  const itin = state.lastPlan && state.selected >= 0 ? (state.lastPlan.itineraries || [])[state.selected] : null;
+  const itin = state.lastPlan && state.selected >= 0 ? (state.lastPlan.journeys || [])[state.selected] : null;
   ui.sketchFit.disabled = !itin;
   drawSketch(ui.sketch, state.sketch, itin || null, state.sketchFit);
 }
@@ -518,9 +521,10 @@ async function planFromForm() {
     walk: numberOrNull(ui.walk),
     speed: numberOrNull(ui.speed),
     pen: numberOrNull(ui.pen),
+    max: numberOrNull(ui.max),
     n: numberOrNull(ui.n),
   };
-  for (const [key, input] of [['walk', ui.walk], ['speed', ui.speed], ['pen', ui.pen], ['n', ui.n]]) {
+  for (const [key, input] of [['walk', ui.walk], ['speed', ui.speed], ['pen', ui.pen], ['max', ui.max], ['n', ui.n]]) {
     const v = limits[key];
     if (v === null) continue;
     if (Number.isNaN(v) || v < Number(input.min) || v > Number(input.max)) {
@@ -542,10 +546,11 @@ async function planFromForm() {
 /** Form values → the engine's query object (missing limits take the engine's defaults). */
 function engineQuery(q) {
   const query = { from: q.from, to: q.to, date: q.date, time: q.time, step_free: q.sf || 'off' };
-  if (q.walk !== null && q.walk !== undefined) query.max_walk_m = q.walk;
-  if (q.speed !== null && q.speed !== undefined) query.walk_speed_mps = q.speed;
-  if (q.pen !== null && q.pen !== undefined) query.transfer_penalty_s = Math.round(q.pen * 60);
-  if (q.n !== null && q.n !== undefined) query.options = Math.round(q.n);
+  if (q.walk !== null && q.walk !== undefined) query.walk_limit_m = q.walk;
+  if (q.speed !== null && q.speed !== undefined) query.walking_speed_mps = q.speed;
+  if (q.pen !== null && q.pen !== undefined) query.change_penalty_s = Math.round(q.pen * 60);
+  if (q.max !== null && q.max !== undefined) query.max_duration_s = Math.round(q.max * 60);
+  if (q.n !== null && q.n !== undefined) query.next = Math.round(q.n);
   return query;
 }
 
@@ -583,7 +588,7 @@ function writeAddress(q) {
   p.set('date', q.date);
   p.set('time', q.time);
   p.set('sf', q.sf);
-  for (const k of ['walk', 'speed', 'pen', 'n']) if (q[k] !== null && q[k] !== undefined) p.set(k, String(q[k]));
+  for (const k of ['walk', 'speed', 'pen', 'max', 'n']) if (q[k] !== null && q[k] !== undefined) p.set(k, String(q[k]));
   const own = [...state.feeds.values()].some((f) => f.source === 'own');
   p.set('src', own ? 'own' : 'demo');
   history.replaceState(null, '', `#${p.toString()}`);
@@ -609,6 +614,7 @@ function readAddress() {
     walk: num('walk'),
     speed: num('speed'),
     pen: num('pen'),
+    max: num('max'),
     n: num('n'),
     src: p.get('src') === 'own' ? 'own' : 'demo',
   };
@@ -634,6 +640,7 @@ function fillForm(q) {
   ui.walk.value = q.walk ?? '';
   ui.speed.value = q.speed ?? '';
   ui.pen.value = q.pen ?? '';
+  ui.max.value = q.max ?? '';
   ui.n.value = q.n ?? '';
 }
 
@@ -697,21 +704,21 @@ function routeChip(route) {
   return chip;
 }
 
-const REASON_WORDS = {
-  unknown_stop: 'Unknown stop',
+// Headings for the engine's codes; the sentences themselves come with the result (`text`).
+const NOTHING_FOUND_WORDS = {
   no_service_on_date: 'No service on this date',
   outside_feed_dates: 'Date outside the feeds',
   no_step_free_path: 'No step-free path',
-  nothing_within_limit: 'Nothing within the limits',
   no_connection: 'No connection',
 };
 
 function renderPlan(result, query) {
-  const itins = Array.isArray(result.itineraries) ? result.itineraries : [];
+  const journeys = Array.isArray(result.journeys) ? result.journeys : [];
   ui.results.replaceChildren();
   ui.planWarnings.replaceChildren();
   ui.resultsEmpty.hidden = true;
   ui.formError.hidden = true;
+  ui.timeKey.hidden = !journeys.length;
 
   const sfOn = query.step_free && query.step_free !== 'off';
   ui.sfNotes.hidden = !sfOn;
@@ -719,65 +726,88 @@ function renderPlan(result, query) {
   if (sfOn && Number.isFinite(result.step_free_extra_s)) {
     const extra = result.step_free_extra_s;
     ui.sfExtra.textContent = extra > 0
-      ? `The step-free journey is ${minutes(extra)} longer than the standard one.`
-      : 'The step-free journey takes no longer than the standard one.';
+      ? `The step-free journey arrives ${minutes(extra)} later than the standard one.`
+      : 'The step-free journey arrives no later than the standard one.';
   }
 
-  const nj = result.no_journey;
-  ui.noJourney.hidden = !nj;
-  if (nj) {
+  const nf = result.nothing_found;
+  ui.noJourney.hidden = !nf;
+  if (nf) {
     ui.noJourneyMessage.replaceChildren(
-      el('strong', { text: `${REASON_WORDS[nj.reason] || 'No journey'}: ` }),
-      nj.message || 'no journey was found for this query.',
+      el('strong', { text: `${NOTHING_FOUND_WORDS[nf.code] || 'No journey'}: ` }),
+      String(nf.text || 'no journey was found for this query.'),
     );
-    const blocking = Array.isArray(nj.blocking) ? nj.blocking : [];
-    ui.noJourneyBlocking.hidden = !blocking.length;
-    ui.noJourneyList.replaceChildren(...blocking.map((b) => el('li', { text: typeof b === 'string' ? b : issueText(b) })));
+    const blocked = Array.isArray(nf.blocked_by) ? nf.blocked_by : [];
+    ui.noJourneyBlocking.hidden = !blocked.length;
+    ui.noJourneyList.replaceChildren(...blocked.map((b) => el('li', { text: String(b.text || '') })));
   }
 
-  itins.forEach((it, i) => ui.results.append(summaryItem(it, i)));
-  for (const w of Array.isArray(result.warnings) ? result.warnings : []) {
-    ui.planWarnings.append(el('li', { text: typeof w === 'string' ? w : issueText(w) }));
+  journeys.forEach((it, i) => ui.results.append(summaryItem(it, i)));
+  for (const n of Array.isArray(result.notes) ? result.notes : []) {
+    ui.planWarnings.append(el('li', { text: String(n.text || n.code || '') }));
   }
 
-  // Bring the options into view unless their heading already is.
+  // Bring the journeys into view unless their heading already is.
   const top = ui.resultsPanel.getBoundingClientRect().top;
   if (top < 0 || top > window.innerHeight - 120) ui.resultsPanel.scrollIntoView({ block: 'start' });
 
-  if (itins.length) {
+  if (journeys.length) {
     select(0, false);
-    say(`${plural(itins.length, 'option', 'options')} found. First: ${itins[0].depart} to ${itins[0].arrive}.`);
+    say(`${plural(journeys.length, 'journey', 'journeys')} found. First: ${journeys[0].depart} to ${journeys[0].arrive}.`);
   } else {
     state.selected = -1;
     renderDetail(null);
     redrawSketch();
-    say(nj ? `No journey: ${nj.message || REASON_WORDS[nj.reason] || ''}` : 'No journey found.');
+    say(nf ? `No journey: ${nf.text || NOTHING_FOUND_WORDS[nf.code] || ''}` : 'No journey found.');
   }
+}
+
+/**
+ * Where a journey's time goes, as a bar of its legs in order: each segment's length is its share
+ * of the journey (waiting, a ride, walking). Told apart by pattern as well as shade (solid = on
+ * board, stripes = walking, outline = waiting), so colour is never the only cue; the bar is
+ * decorative and the same facts are written beside it.
+ */
+function timeBar(it) {
+  const bar = el('span', { class: 'tbar', 'aria-hidden': 'true' });
+  const span = Math.max(1, it.duration_s || 0);
+  const seg = (kind, seconds, label) => {
+    if (!(seconds > 0)) return;
+    const s = el('span', { class: `tbar-seg tbar-${kind}`, text: label || '' });
+    s.style.flexGrow = String(seconds / span);
+    bar.append(s);
+  };
+  let t = it.depart_s;
+  for (const leg of it.legs || []) {
+    seg('wait', leg.depart_s - t);
+    if (leg.kind === 'ride') seg('ride', leg.duration_s, leg.route ? leg.route.short_name || '' : '');
+    else seg('walk', leg.duration_s);
+    t = leg.arrive_s;
+  }
+  seg('wait', it.arrive_s - t);
+  return bar;
 }
 
 function summaryItem(it, i) {
   const rides = (it.legs || []).filter((l) => l.kind === 'ride');
-  const chips = el('span', { class: 'sum-chips' });
-  rides.forEach((l, j) => {
-    if (j) chips.append(el('span', { class: 'sum-sep', 'aria-hidden': 'true', text: '›' }));
-    chips.append(routeChip(l.route));
-  });
+  const lines = rides.map((l) => (l.route ? l.route.short_name || l.route.long_name || '' : '')).filter(Boolean);
   const btn = el('button', { type: 'button', class: 'sum', 'aria-pressed': 'false', 'data-index': String(i) },
     el('span', { class: 'sum-times' },
       el('span', { class: 'sum-clock', text: `${it.depart} → ${it.arrive}` }),
       el('span', { class: 'sum-dur', text: minutes(it.duration_s) })),
-    rides.length ? chips : el('span', { class: 'sum-chips', text: 'walk only' }),
+    timeBar(it),
     el('span', { class: 'sum-facts' },
-      el('span', { text: plural(it.rides ?? rides.length, 'ride', 'rides') }),
-      el('span', { text: `${minutes(it.walk_s || 0) || '0 min'} walk` }),
-      it.wait_s ? el('span', { text: `${minutes(it.wait_s)} wait` }) : null,
+      el('span', { text: rides.length ? `${plural(rides.length, 'ride', 'rides')}: ${lines.join(', ')}` : 'walk only' }),
+      el('span', { text: `${minutes(it.ride_s || 0) || '0 min'} on board` }),
+      el('span', { text: `${minutes(it.walk_s || 0) || '0 min'} walking` }),
+      el('span', { text: `${minutes(it.wait_s || 0) || '0 min'} waiting` }),
       stepFreeBadge(it.step_free)));
   btn.addEventListener('click', () => select(i, true));
   return el('li', {}, btn);
 }
 
 function select(i, moveFocus) {
-  const itins = (state.lastPlan && state.lastPlan.itineraries) || [];
+  const itins = (state.lastPlan && state.lastPlan.journeys) || [];
   if (!itins[i]) return;
   state.selected = i;
   for (const b of ui.results.querySelectorAll('button.sum')) {
@@ -820,27 +850,27 @@ function placeText(p) {
 }
 
 function platformText(p) {
-  return p && p.platform ? `platform ${p.platform}` : '';
+  return p && p.platform_code ? `platform ${p.platform_code}` : '';
 }
 
 function renderDetail(it) {
   const box = ui.detail;
   box.replaceChildren();
   if (!it) {
-    const none = state.lastPlan && !(state.lastPlan.itineraries || []).length;
-    box.append(el('p', { class: 'hint', text: none ? 'No journey to show: see the options panel for why.' : 'Choose an option to see its legs.' }));
+    const none = state.lastPlan && !(state.lastPlan.journeys || []).length;
+    box.append(el('p', { class: 'hint', text: none ? 'No journey to show: see the journeys panel for why.' : 'Choose a journey to see its legs.' }));
     return;
   }
   box.append(el('p', { class: 'detail-sum' },
     el('span', { class: 'detail-clock', text: `${it.depart} → ${it.arrive}` }),
-    el('span', { text: ` · ${minutes(it.duration_s)} · ${plural(it.rides ?? 0, 'ride', 'rides')} · ${minutes(it.walk_s || 0) || '0 min'} walk` }),
+    el('span', { text: `${minutes(it.duration_s)} · ${plural(it.rides ?? 0, 'ride', 'rides')} · ${minutes(it.walk_s || 0) || '0 min'} walking · ${minutes(it.wait_s || 0) || '0 min'} waiting` }),
     ' ', stepFreeBadge(it.step_free)));
   const ol = el('ol', { class: 'legs' });
   for (const leg of it.legs || []) {
     if (leg.wait_before_s > 0) {
       ol.append(el('li', { class: 'leg leg-wait' },
         el('span', { class: 'leg-time', text: '' }),
-        el('div', { class: 'leg-body' }, el('p', { text: `Wait ${minutes(leg.wait_before_s)} at ${placeText(leg.from)}${platformText(leg.from) ? `, ${platformText(leg.from)}` : ''}` }))));
+        el('div', { class: 'leg-body' }, el('p', { text: `Wait ${minutes(leg.wait_before_s)} at ${placeText(leg.start)}${platformText(leg.start) ? `, ${platformText(leg.start)}` : ''}` }))));
     }
     ol.append(legItem(leg));
   }
@@ -859,8 +889,8 @@ function legItem(leg) {
     if (mode) head.append(el('span', { class: 'leg-mode', text: mode }), ' ');
     if (leg.headsign) head.append(el('span', { text: `towards ${leg.headsign}` }));
     body.append(head);
-    body.append(el('p', {}, el('span', { class: 'leg-label', text: 'Board ' }), placeLine(leg.from, leg.depart)));
-    const mids = Array.isArray(leg.intermediate_stops) ? leg.intermediate_stops : [];
+    body.append(el('p', {}, el('span', { class: 'leg-label', text: 'Board ' }), placeLine(leg.start, leg.depart)));
+    const mids = Array.isArray(leg.calls) ? leg.calls : [];
     if (mids.length) {
       const list = el('ol', { class: 'mids' });
       for (const s of mids) list.append(el('li', {}, el('span', { class: 'mid-time', text: s.depart || s.arrive || '' }), ' ', s.name || s.stop_id));
@@ -868,21 +898,21 @@ function legItem(leg) {
     } else {
       body.append(el('p', { class: 'hint', text: `Non-stop · ${minutes(leg.duration_s)} ride` }));
     }
-    body.append(el('p', {}, el('span', { class: 'leg-label', text: 'Leave at ' }), placeLine(leg.to, leg.arrive)));
+    body.append(el('p', {}, el('span', { class: 'leg-label', text: 'Leave at ' }), placeLine(leg.end, leg.arrive)));
     if (leg.frequency_based) body.append(el('p', { class: 'hint', text: 'This service runs at a fixed headway; times are estimated from it.' }));
   } else {
-    const verb = leg.kind === 'transfer' ? 'Change' : 'Walk';
+    const verb = leg.kind === 'in_station' ? 'Change on foot' : 'Walk';
     const dist = Number.isFinite(leg.distance_m) ? `${Math.round(leg.distance_m)} m, ` : '';
     body.append(el('p', { class: 'leg-head' }, el('span', { class: 'walk-word', text: verb }), ` ${dist}${minutes(leg.duration_s)}`));
-    body.append(el('p', {}, el('span', { class: 'leg-label', text: 'From ' }), placeLine(leg.from)));
-    body.append(el('p', {}, el('span', { class: 'leg-label', text: 'To ' }), placeLine(leg.to)));
-    const path = Array.isArray(leg.path) ? leg.path : [];
+    body.append(el('p', {}, el('span', { class: 'leg-label', text: 'From ' }), placeLine(leg.start)));
+    body.append(el('p', {}, el('span', { class: 'leg-label', text: 'To ' }), placeLine(leg.end)));
+    const path = Array.isArray(leg.pathways) ? leg.pathways : [];
     if (path.length) {
       const list = el('ol', { class: 'path' });
       for (const step of path) {
-        const words = PATHWAY_WORDS[step.mode] || modeWord(step.mode) || 'pathway';
+        const words = PATHWAY_WORDS[step.pathway_mode] || modeWord(step.pathway_mode) || 'pathway';
         const ends = [step.from, step.to].filter(Boolean).join(' → ');
-        list.append(el('li', {}, el('span', { class: `pw pw-${PATHWAY_WORDS[step.mode] ? step.mode : 'other'}`, text: words }), ends ? ` ${ends}` : ''));
+        list.append(el('li', {}, el('span', { class: `pw pw-${PATHWAY_WORDS[step.pathway_mode] ? step.pathway_mode : 'other'}`, text: words }), ends ? ` ${ends}` : ''));
       }
       body.append(el('details', { class: 'path-box', open: true }, el('summary', { text: `Route inside the station: ${plural(path.length, 'step', 'steps')}` }), list));
     }
@@ -890,13 +920,12 @@ function legItem(leg) {
 
   const sf = leg.step_free || {};
   const sfLine = el('div', { class: 'leg-sf' }, stepFreeBadge(sf.status));
-  const reasons = Array.isArray(sf.reasons) ? sf.reasons : [];
-  const problems = new Set(Array.isArray(sf.problems) ? sf.problems.map(String) : []);
-  if (reasons.length) {
-    // Reasons that stand in the way of a step-free journey are marked, not only coloured.
-    sfLine.append(el('ul', { class: 'sf-reasons' }, ...reasons.map((r) => (problems.has(String(r))
-      ? el('li', { class: 'sf-problem' }, el('strong', { text: sf.status === 'no' ? 'Barrier: ' : 'Not recorded: ' }), String(r))
-      : el('li', { text: String(r) })))));
+  const checks = Array.isArray(sf.checks) ? sf.checks : [];
+  if (checks.length) {
+    // Checks that stand in the way of a step-free journey are marked in words, not only coloured.
+    sfLine.append(el('ul', { class: 'sf-reasons' }, ...checks.map((c) => (c.verdict !== 'yes'
+      ? el('li', { class: 'sf-problem' }, el('strong', { text: c.verdict === 'no' ? 'Barrier: ' : 'Not recorded: ' }), String(c.text || ''))
+      : el('li', { text: String(c.text || '') })))));
   }
   body.append(sfLine);
   return li;

@@ -79,13 +79,13 @@ function clampAspect(r, lo, hi) {
 function itineraryPoints(itin, proj, stopById) {
   const pts = [];
   for (const leg of itin.legs) {
-    const a = placeXY(leg.from, proj, stopById);
+    const a = placeXY(leg.start, proj, stopById);
     if (a) pts.push(a);
-    for (const s of leg.intermediate_stops || []) {
+    for (const s of leg.calls || []) {
       const st = stopById.get(s.stop_id);
       if (st && Number.isFinite(st.lat)) pts.push(proj.xy(st.lat, st.lon));
     }
-    const b = placeXY(leg.to, proj, stopById);
+    const b = placeXY(leg.end, proj, stopById);
     if (b) pts.push(b);
   }
   return pts;
@@ -167,8 +167,8 @@ export function drawSketch(svg, data, itinerary, fitJourney = true) {
   let label = `Network sketch: ${data.stops.length} stops, ${(data.lines || []).length} lines.`;
   if (hasTrip) {
     svg.append(drawItinerary(itinerary, proj, stopById, px, view));
-    const first = itinerary.legs[0].from;
-    const last = itinerary.legs[itinerary.legs.length - 1].to;
+    const first = itinerary.legs[0].start;
+    const last = itinerary.legs[itinerary.legs.length - 1].end;
     label += ` Chosen journey from ${first.name} to ${last.name} drawn on top${fitJourney ? ', view fitted to it' : ''}.`;
   }
   title.textContent = label;
@@ -221,11 +221,11 @@ function drawItinerary(itin, proj, stopById, px, view) {
 
   const marks = [];
   for (const leg of itin.legs) {
-    const a = placeXY(leg.from, proj, stopById);
-    const b = placeXY(leg.to, proj, stopById);
+    const a = placeXY(leg.start, proj, stopById);
+    const b = placeXY(leg.end, proj, stopById);
     if (!a || !b) continue;
     const pts = [a];
-    for (const s of leg.intermediate_stops || []) {
+    for (const s of leg.calls || []) {
       const st = stopById.get(s.stop_id);
       if (st && Number.isFinite(st.lat)) pts.push(proj.xy(st.lat, st.lon));
     }
@@ -234,13 +234,13 @@ function drawItinerary(itin, proj, stopById, px, view) {
       const color = hexColor(leg.route && leg.route.color) || '#5c6670';
       g.append(node('polyline', { points: pointsAttr(pts), class: 'sk-trip-casing', 'stroke-width': (9 * px).toFixed(2) }));
       g.append(node('polyline', { points: pointsAttr(pts), stroke: color, class: 'sk-trip-ride', 'stroke-width': (4.5 * px).toFixed(2) }));
-      marks.push([leg.from, a], [leg.to, b]);
+      marks.push([leg.start, a], [leg.end, b]);
     } else {
       g.append(node('polyline', { points: pointsAttr(pts), class: 'sk-trip-walk', 'stroke-width': (3 * px).toFixed(2), 'stroke-dasharray': `${(5 * px).toFixed(1)} ${(4 * px).toFixed(1)}` }));
     }
   }
-  const startPlace = itin.legs[0].from;
-  const endPlace = itin.legs[itin.legs.length - 1].to;
+  const startPlace = itin.legs[0].start;
+  const endPlace = itin.legs[itin.legs.length - 1].end;
   const start = placeXY(startPlace, proj, stopById);
   const end = placeXY(endPlace, proj, stopById);
   if (start) {

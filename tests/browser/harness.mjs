@@ -206,18 +206,18 @@ export async function cli(args) {
 /** The parts of a PlanResult that must agree between CLI and page. */
 export function journeyKey(result) {
   const n = (v) => (v === undefined ? null : v);
-  return (result.itineraries || []).map((it) => ({
+  return (result.journeys || []).map((it) => ({
     depart_s: it.depart_s,
     arrive_s: it.arrive_s,
     step_free: it.step_free,
     legs: (it.legs || []).map((l) => ({
       kind: l.kind,
-      from: l.from && l.from.stop_id,
-      to: l.to && l.to.stop_id,
+      start: l.start && l.start.stop_id,
+      end: l.end && l.end.stop_id,
       depart_s: l.depart_s,
       arrive_s: l.arrive_s,
       trip_id: n(l.trip_id),
-      route: l.route ? l.route.id : null,
+      route: l.route ? l.route.route_id : null,
     })),
   }));
 }

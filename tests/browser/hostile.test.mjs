@@ -54,7 +54,7 @@ test('a stop named like HTML appears literally and no script runs', async () => 
   assert.equal(await page.inputValue('#from'), STOP_A);
 
   const result = await h.planViaForm(page, { from: 'onerror', fromPick: STOP_A, to: 'Quay', date: '2026-12-02', time: '08:00' });
-  assert.equal(result.itineraries.length >= 1, true, JSON.stringify(result.no_journey));
+  assert.equal(result.journeys.length >= 1, true, JSON.stringify(result.nothing_found));
   const detail = await page.textContent('#detail');
   assert.ok(detail.includes(STOP_A), detail);
   assert.ok(detail.includes('<b>bold</b>'), detail);

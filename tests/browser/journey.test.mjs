@@ -48,9 +48,9 @@ test('the demo city loads and a journey is planned and shown', async () => {
   assert.match(counts, /48 stops/);
 
   const result = await h.planViaForm(page, CASE_B);
-  assert.equal(result.no_journey ?? null, null, JSON.stringify(result.no_journey));
-  assert.ok(result.itineraries.length >= 1);
-  const first = result.itineraries[0];
+  assert.equal(result.nothing_found ?? null, null, JSON.stringify(result.nothing_found));
+  assert.ok(result.journeys.length >= 1);
+  const first = result.journeys[0];
   // demo-data/README.md Case B, standard: R1 R1_WKD_0_0754 from Oskerveld Central, arriving 08:34.
   assert.equal(first.arrive, '08:34');
   const rides = first.legs.filter((l) => l.kind === 'ride');
@@ -60,7 +60,7 @@ test('the demo city loads and a journey is planned and shown', async () => {
 
   // What the page shows matches what the engine returned.
   const items = await page.$$('#results > li');
-  assert.equal(items.length, result.itineraries.length);
+  assert.equal(items.length, result.journeys.length);
   const summary = await page.textContent('#results > li:first-child');
   assert.ok(summary.includes(`${first.depart} → ${first.arrive}`), summary);
   assert.equal(await page.getAttribute('#results > li:first-child button', 'aria-pressed'), 'true');
@@ -94,7 +94,7 @@ test('the page and the native CLI give the same journeys', async () => {
   const q = Object.fromEntries(new URLSearchParams(new URL(firstUrl).hash.slice(1)));
   const cliResult = await h.cli([
     'plan', '--feed', 'demo-data/oskerveld-city', '--feed', 'demo-data/oskerveld-rail',
-    '--from', q.from, '--to', q.to, '--date', q.date, '--at', q.time, '--options', q.n || '3', '--json',
+    '--from', q.from, '--to', q.to, '--date', q.date, '--at', q.time, '--next', q.n || '3', '--json',
   ]);
   // Reference: the native build of the same engine, reading the GTFS text folders instead of zips.
   assert.deepEqual(firstKey, h.journeyKey(cliResult));

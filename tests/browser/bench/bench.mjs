@@ -5,7 +5,7 @@
 // (the WASM memory's size, `engine.memory_bytes()`, `performance.memory`,
 // `performance.measureUserAgentSpecificMemory()` when it answers, and the peak RSS / PSS of the
 // browser's processes read from /proc while the feed loads and while queries run), then the
-// latency of `engine.plan` (standard options 1, options 3, step-free strict options 1) and
+// latency of `engine.plan` (standard next 1, next 3, step-free strict next 1) and
 // `engine.reach` (one-to-all, 240 min) over the same random queries as the native bench
 // (`bench-out/<feed>.queries.tsv`, written by `cargo bench --bench queries`), or, when that file is
 // missing, over queries drawn here (fixed seed) between stops that appear in stop_times.txt.
@@ -290,18 +290,18 @@ async function main() {
         first_plan_ms: t4 - t3,
         stages: stages.map((s, i) => ({ stage: s.stage, ms: (i + 1 < stages.length ? stages[i + 1].at : t3) - s.at })),
         report: { stops: report.stops, trips: report.trips, stop_events: report.stop_events, warnings_total: report.warnings_total },
-        first_plan_itineraries: firstPlan.itineraries.length,
+        first_plan_journeys: firstPlan.journeys.length,
         wasm_memory_bytes: wasm.memory.buffer.byteLength,
         engine_memory_bytes: engine.memory_bytes(),
       };
-    }, { feedUrl: `/feeds/${encodeURIComponent(feedName)}`, feedName: feedName.replace(/\.zip$/, ''), first: { ...queries[0], date: DATE, options: 1 } });
+    }, { feedUrl: `/feeds/${encodeURIComponent(feedName)}`, feedName: feedName.replace(/\.zip$/, ''), first: { ...queries[0], date: DATE, next: 1 } });
     const loadPeak = loadSampler.stop();
     Object.assign(result, load, { idle_rss: idle.rss, idle_pss: idle.pss, load_peak_rss: loadPeak.rss, load_peak_pss: loadPeak.pss, load_samples: loadPeak.samples });
 
     const kinds = [
-      { key: 'plan1', label: '`plan` standard, options 1', call: 'plan', q: { options: 1 } },
-      { key: 'plan3', label: '`plan` standard, options 3', call: 'plan', q: { options: 3 } },
-      { key: 'strict', label: '`plan` step-free strict, options 1 (runs a standard search too, for step_free_extra_s)', call: 'plan', q: { options: 1, step_free: 'strict' } },
+      { key: 'plan1', label: '`plan` standard, next 1', call: 'plan', q: { next: 1 } },
+      { key: 'plan3', label: '`plan` standard, next 3', call: 'plan', q: { next: 3 } },
+      { key: 'strict', label: '`plan` step-free strict, next 1 (runs a standard search too, for step_free_extra_s)', call: 'plan', q: { next: 1, step_free: 'strict' } },
       { key: 'reach', label: `\`reach\` one-to-all, ${LIMIT_MIN} min (returns a list of every platform reached)`, call: 'reach' },
       { key: 'reach_minutes', label: `\`reach_minutes\` one-to-all, ${LIMIT_MIN} min (returns minutes per stop as a Uint32Array)`, call: 'reach_minutes' },
     ].filter((k) => KINDS.includes(k.key));
@@ -329,7 +329,7 @@ async function main() {
           }
           times.push(performance.now() - t);
           if (out) {
-            const n = kind.call === 'plan' ? out.itineraries.length
+            const n = kind.call === 'plan' ? out.journeys.length
               : kind.call === 'reach' ? out.length
               : out.reduce((k, m) => k + (m <= limit), 0);
             items += n;
