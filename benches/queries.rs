@@ -29,7 +29,6 @@
 
 use std::fmt::Write as _;
 use std::fs;
-use std::io::BufWriter;
 use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
 
@@ -39,14 +38,14 @@ use petgraph::csr::Csr;
 use timeweave::engine::{Engine, PlanQuery};
 use timeweave::graph::{Network, LAST_OF_TRIP};
 use timeweave::route::search::{self, decode, Endpoints, Node, Params, SearchState, StepFree};
-use timeweave_synth::{self, Preset};
 use timeweave::timetable::calendar::clock_to_seconds;
 use timeweave::timetable::{FootpathSet, StopIdx, StopKind, Timetable, WalkProfile, NO_DROP_OFF, NO_PICKUP};
+use timeweave_synth::Preset;
 
 /// The service date of every query: a Wednesday inside the generated feeds' calendar.
 const DATE: (i32, u32, u32) = (2026, 12, 2);
 const SEED: u64 = 1;
-const QUERY_SEED: u64 = 0x7173_4_2026;
+const QUERY_SEED: u64 = 0x7_1734_2026;
 
 // ------------------------------------------------------------------ small helpers
 
@@ -136,11 +135,9 @@ fn feed_path(preset: Preset) -> (PathBuf, Option<Duration>) {
         return (path, None);
     }
     fs::create_dir_all(&dir).expect("create bench-out/");
-    let tmp = dir.join(format!(".{}-{SEED}.zip.part", preset.name()));
     let t = Instant::now();
-    let file = fs::File::create(&tmp).unwrap_or_else(|e| panic!("create {}: {e}", tmp.display()));
-    synth::write_feed(preset, SEED, BufWriter::new(file)).unwrap_or_else(|e| panic!("write {}: {e}", tmp.display()));
-    fs::rename(&tmp, &path).unwrap_or_else(|e| panic!("rename to {}: {e}", path.display()));
+    timeweave_disk::write_atomically(&path, |w| timeweave_synth::write_feed(preset, SEED, w))
+        .unwrap_or_else(|e| panic!("write {}: {e}", path.display()));
     (path, Some(t.elapsed()))
 }
 
@@ -248,7 +245,15 @@ impl Csa {
         // stay in order.
         conns.sort_by_key(|c| (c.dep, c.arr));
         let trips = net.instances.len();
-        Csa { conns, ready: vec![u32::MAX; stops], alight: vec![u32::MAX; stops], arrive: vec![u32::MAX; stops], stop_stamp: vec![0; stops], trip_stamp: vec![0; trips], gen: 0 }
+        Csa {
+            conns,
+            ready: vec![u32::MAX; stops],
+            alight: vec![u32::MAX; stops],
+            arrive: vec![u32::MAX; stops],
+            stop_stamp: vec![0; stops],
+            trip_stamp: vec![0; trips],
+            gen: 0,
+        }
     }
 
     fn bytes(&self) -> usize {
@@ -520,7 +525,9 @@ struct Report {
 }
 
 fn footpath_bytes(f: &FootpathSet) -> usize {
-    f.first.capacity() * 4 + f.paths.capacity() * std::mem::size_of::<timeweave::timetable::Footpath>() + f.steps.capacity() * std::mem::size_of::<timeweave::timetable::PathwayStep>()
+    f.first.capacity() * 4
+        + f.paths.capacity() * std::mem::size_of::<timeweave::timetable::Footpath>()
+        + f.steps.capacity() * std::mem::size_of::<timeweave::timetable::PathwayStep>()
 }
 
 fn time_each<T>(qs: &[Query], mut f: impl FnMut(&Query) -> T, mut check: impl FnMut(&Query, &T)) -> Dist {
@@ -557,7 +564,8 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
     eprintln!("[{preset}] load {load_s:.2} s, graph {net_s:.2} s, {} network events", net.events());
 
     let qs = make_queries(tt, &net, date, n_queries);
-    let tsv: String = qs.iter().map(|q| format!("{}\t{}\t{}\n", tt.stops[q.from.idx()].id, tt.stops[q.to.idx()].id, hhmm(q.minute))).collect();
+    let tsv: String =
+        qs.iter().map(|q| format!("{}\t{}\t{}\n", tt.stops[q.from.idx()].id, tt.stops[q.to.idx()].id, hhmm(q.minute))).collect();
     let tsv_path = path.with_file_name(format!("{}-{SEED}.queries.tsv", preset.name()));
     fs::write(&tsv_path, tsv).unwrap_or_else(|e| panic!("write {}: {e}", tsv_path.display()));
 
@@ -587,19 +595,31 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
     let options3 = time_each(&qs, |q| search::options(tt, &net, &mut st, &ends(q), q.depart_s, &std_p, 3), |_, _| {});
     eprintln!("[{preset}] step-free strict");
     let mut strict_found = 0;
-    let strict = time_each(&qs, |q| search::earliest(tt, &net, &mut st, &ends(q), q.depart_s, &strict_p), |_, r| strict_found += usize::from(r.is_some()));
+    let strict = time_each(
+        &qs,
+        |q| search::earliest(tt, &net, &mut st, &ends(q), q.depart_s, &strict_p),
+        |_, r| strict_found += usize::from(r.is_some()),
+    );
     eprintln!("[{preset}] one-to-all");
     let t = Instant::now();
     search::one_to_all(tt, &net, &mut st, &[qs[0].from], qs[0].depart_s, &std_p);
     let first_sweep_s = t.elapsed().as_secs_f64();
     let one_to_all = time_each(&qs, |q| search::one_to_all(tt, &net, &mut st, &[q.from], q.depart_s, &std_p).len(), |_, _| {});
     let resolve_qs = &qs[..qs.len().min(200)];
-    let resolve = time_each(resolve_qs, |q| engine.resolve(&tt.stops[q.to.idx()].id), |q, r| assert_eq!(r.as_ref().ok(), Some(&q.to), "resolve by id"));
+    let resolve = time_each(
+        resolve_qs,
+        |q| engine.resolve(&tt.stops[q.to.idx()].id),
+        |q, r| assert_eq!(r.as_ref().ok(), Some(&q.to), "resolve by id"),
+    );
     let peak_rss_queries = proc_status_bytes("VmHWM");
 
     if run_criterion {
         eprintln!("[{preset}] criterion group p2p");
-        let mut c = Criterion::default().configure_from_args().sample_size(20).warm_up_time(Duration::from_secs(2)).measurement_time(Duration::from_secs(8));
+        let mut c = Criterion::default()
+            .configure_from_args()
+            .sample_size(20)
+            .warm_up_time(Duration::from_secs(2))
+            .measurement_time(Duration::from_secs(8));
         let mut g = c.benchmark_group("p2p");
         let mut i = 0usize;
         g.bench_function(format!("earliest_{}", preset.name()), |b| {
@@ -622,9 +642,19 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
     // browser's figures have a native counterpart. It builds the engine's own graph first.
     let n_plan = env_usize("TIMEWEAVE_BENCH_PLAN_QUERIES", 200).min(qs.len());
     eprintln!("[{preset}] Engine::plan × {n_plan}");
-    let ids: Vec<(String, String, String)> = qs[..n_plan].iter().map(|q| (engine.tt.stops[q.from.idx()].id.clone(), engine.tt.stops[q.to.idx()].id.clone(), hhmm(q.minute))).collect();
+    let ids: Vec<(String, String, String)> = qs[..n_plan]
+        .iter()
+        .map(|q| (engine.tt.stops[q.from.idx()].id.clone(), engine.tt.stops[q.to.idx()].id.clone(), hhmm(q.minute)))
+        .collect();
     let date_s = date.to_string();
-    let pq = |(from, to, time): &(String, String, String)| PlanQuery { from: from.clone(), to: to.clone(), date: date_s.clone(), time: time.clone(), next: Some(1), ..PlanQuery::default() };
+    let pq = |(from, to, time): &(String, String, String)| PlanQuery {
+        from: from.clone(),
+        to: to.clone(),
+        date: date_s.clone(),
+        time: time.clone(),
+        next: Some(1),
+        ..PlanQuery::default()
+    };
     let _ = engine.plan(&pq(&ids[0]));
     let mut json_bytes = 0usize;
     let mut samples = Vec::new();
@@ -684,7 +714,13 @@ fn baselines(preset: Preset, tt: &Timetable, net: &Network, st: &mut SearchState
     let p0 = Params { transfer_penalty_s: 0, ..Params::default() };
     let std_p = Params::default();
     let horizon = |q: &Query| q.depart_s.saturating_add(p0.max_duration_s);
-    let rules = Rules { tt, walk: tt.walk(WalkProfile::Standard), transfer_s: p0.transfer_s(), max_walk_m: p0.max_walk_m, walk_speed_mps: p0.walk_speed_mps };
+    let rules = Rules {
+        tt,
+        walk: tt.walk(WalkProfile::Standard),
+        transfer_s: p0.transfer_s(),
+        max_walk_m: p0.max_walk_m,
+        walk_speed_mps: p0.walk_speed_mps,
+    };
 
     // --- Connection Scan, all queries.
     eprintln!("[{preset}] Connection Scan");
@@ -723,7 +759,15 @@ fn baselines(preset: Preset, tt: &Timetable, net: &Network, st: &mut SearchState
         if !bad.is_empty() {
             o2a_stops_disagree += bad.len();
             let s = bad[0];
-            o2a_disagree.push(format!("from {} at {}: {} stops differ, e.g. {}: one_to_all {:?}, CSA {:?}", tt.stops[q.from.idx()].id, hhmm(q.minute), bad.len(), tt.stops[s].id, ours[s], csa.arrival(s)));
+            o2a_disagree.push(format!(
+                "from {} at {}: {} stops differ, e.g. {}: one_to_all {:?}, CSA {:?}",
+                tt.stops[q.from.idx()].id,
+                hhmm(q.minute),
+                bad.len(),
+                tt.stops[s].id,
+                ours[s],
+                csa.arrival(s)
+            ));
         }
     }
 
@@ -799,7 +843,16 @@ fn pg_run(tt: &Timetable, net: &Network, st: &mut SearchState, pg: &mut PgGraph,
             }
         }
     }
-    PgRun { turn, queries: pg_d.len(), skipped_unreached: skipped, ours: dist(&ours_d), ours_sum: ours_d.iter().sum(), pg: dist(&pg_d), pg_sum: pg_d.iter().sum(), disagree }
+    PgRun {
+        turn,
+        queries: pg_d.len(),
+        skipped_unreached: skipped,
+        ours: dist(&ours_d),
+        ours_sum: ours_d.iter().sum(),
+        pg: dist(&pg_d),
+        pg_sum: pg_d.iter().sum(),
+        disagree,
+    }
 }
 
 // ------------------------------------------------------------------ tables
@@ -846,14 +899,26 @@ fn tables(reports: &[Report]) -> String {
     }
 
     let _ = writeln!(s, "\n#### Baselines on the same graph and the same queries\n");
-    let _ = writeln!(s, "| preset | comparison | queries | ours median / p95 | theirs median / p95 | ratio of medians | ratio of totals | disagreements |");
+    let _ = writeln!(
+        s,
+        "| preset | comparison | queries | ours median / p95 | theirs median / p95 | ratio of medians | ratio of totals | disagreements |"
+    );
     let _ = writeln!(s, "|---|---|---|---|---|---|---|---|");
     for r in reports {
         let b = &r.base;
         for g in &b.pg_runs {
             let _ = writeln!(s, "| {} | `search::run_to_target` vs petgraph `dijkstra` (CSR, {} nodes, {} edges; penalty 300 s; turns of {} queries) | {} (+{} unanswered skipped) | {} | {} | petgraph {:.1}× slower | {:.1}× | {} |", r.preset, b.pg_nodes, b.pg_edges, g.turn, g.queries, g.skipped_unreached, fmt_dist(g.ours), fmt_dist(g.pg), g.ratio(), g.pg_sum / g.ours_sum.max(1e-9), g.disagree.len());
         }
-        let _ = writeln!(s, "| {} | `search::earliest` (penalty 0) vs Connection Scan | {} | {} | {} | ours {:.2}× CSA's time | — | {} |", r.preset, b.csa_queries, fmt_dist(b.ours_p0), fmt_dist(b.csa), b.ours_p0.median / b.csa.median.max(1e-9), b.csa_disagree.len());
+        let _ = writeln!(
+            s,
+            "| {} | `search::earliest` (penalty 0) vs Connection Scan | {} | {} | {} | ours {:.2}× CSA's time | — | {} |",
+            r.preset,
+            b.csa_queries,
+            fmt_dist(b.ours_p0),
+            fmt_dist(b.csa),
+            b.ours_p0.median / b.csa.median.max(1e-9),
+            b.csa_disagree.len()
+        );
         let _ = writeln!(s, "| {} | `search::one_to_all` (4 h) vs Connection Scan one-to-all | {} | {} | {} | ours {:.2}× CSA's time | — | {} queries ({} stop arrivals) |", r.preset, b.o2a_queries, fmt_dist(b.ours_o2a), fmt_dist(b.csa_o2a), b.ours_o2a.median / b.csa_o2a.median.max(1e-9), b.o2a_disagree.len(), b.o2a_stops_disagree);
     }
 
@@ -861,7 +926,8 @@ fn tables(reports: &[Report]) -> String {
     let _ = writeln!(s, "| preset | nodes settled per earliest-arrival search (mean) | first search (prepares walking links and landmark tables) | first one-to-all (sorts the rides by time) |");
     let _ = writeln!(s, "|---|---|---|---|");
     for r in reports {
-        let _ = writeln!(s, "| {} | {:.0} | {:.0} ms | {:.0} ms |", r.preset, r.settled_mean, r.first_search_s * 1e3, r.first_sweep_s * 1e3);
+        let _ =
+            writeln!(s, "| {} | {:.0} | {:.0} ms | {:.0} ms |", r.preset, r.settled_mean, r.first_search_s * 1e3, r.first_sweep_s * 1e3);
     }
 
     let _ = writeln!(s, "\n#### Memory and load details\n");
@@ -869,7 +935,14 @@ fn tables(reports: &[Report]) -> String {
     let _ = writeln!(s, "|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|");
     for r in reports {
         let b = &r.base;
-        let per = |x: usize, events: usize| format!("{:.1} MB ({:.1} B per {})", x as f64 / 1e6, x as f64 / events.max(1) as f64, if events == r.net_events { "graph event" } else { "feed stop event" });
+        let per = |x: usize, events: usize| {
+            format!(
+                "{:.1} MB ({:.1} B per {})",
+                x as f64 / 1e6,
+                x as f64 / events.max(1) as f64,
+                if events == r.net_events { "graph event" } else { "feed stop event" }
+            )
+        };
         let _ = writeln!(
             s,
             "| {} | {:.1} MB{} | {} | {:.2} s | {:.2} s | {} | {} | {} | {} | {} | {} | {} | {} ({:.0} B) | {:.1} MB, built in {:.2} s | {:.0} MB, built in {:.1} s |",
@@ -906,9 +979,22 @@ fn tables(reports: &[Report]) -> String {
         let _ = writeln!(s, "\n#### Targets (metro, native)\n");
         let _ = writeln!(s, "| target | measured | |");
         let _ = writeln!(s, "|---|---|---|");
-        let _ = writeln!(s, "| earliest arrival with transfer penalty ≤ 3 ms (median) | {} ms | {} |", fmt_ms(m.earliest.median), verdict(m.earliest.median <= 3.0));
-        let _ = writeln!(s, "| routing structures ≤ 24 B per stop event: the date's graph (`Network::bytes() / events()`) | {graph_b:.1} B | {} |", verdict(graph_b <= 24.0));
-        let _ = writeln!(s, "| routing structures ≤ 24 B per stop event: the timetable (`event_bytes() / stop_events()`) | {tt_b:.1} B | {} |", verdict(tt_b <= 24.0));
+        let _ = writeln!(
+            s,
+            "| earliest arrival with transfer penalty ≤ 3 ms (median) | {} ms | {} |",
+            fmt_ms(m.earliest.median),
+            verdict(m.earliest.median <= 3.0)
+        );
+        let _ = writeln!(
+            s,
+            "| routing structures ≤ 24 B per stop event: the date's graph (`Network::bytes() / events()`) | {graph_b:.1} B | {} |",
+            verdict(graph_b <= 24.0)
+        );
+        let _ = writeln!(
+            s,
+            "| routing structures ≤ 24 B per stop event: the timetable (`event_bytes() / stop_events()`) | {tt_b:.1} B | {} |",
+            verdict(tt_b <= 24.0)
+        );
         let _ = writeln!(s, "| ≥ 10× faster than petgraph on the same graph (median; turns of {} queries) | {:.1}× (in turns of {}, where most of our queries start with caches petgraph swept: {:.1}×) | {} |", long.turn, long.ratio(), short.turn, short.ratio(), verdict(long.ratio() >= 10.0));
         let _ = writeln!(s, "\nPublished marks for context (Dibbelt, Pajor, Strasser, Wagner, \"Connection Scan Algorithm\", 2017, Table 4; ~20.8k stops, 4.85 M connections, their hardware): time-expanded Dijkstra 29.3 ms, CSA 1.2 ms. Here: our time-expanded Dijkstra (penalty 0) {} ms, our plain CSA {} ms (medians).", fmt_ms(b.ours_p0.median), fmt_ms(b.csa.median));
     }

@@ -12,6 +12,13 @@ if ! rustup target list --installed | grep -qx wasm32-unknown-unknown; then
   rustup target add wasm32-unknown-unknown
 fi
 
+for component in rustfmt clippy; do
+  if ! rustup component list --installed | grep -q "^$component"; then
+    echo "setup: adding the $component component"
+    rustup component add "$component"
+  fi
+done
+
 if [ "$(wasm-bindgen --version 2>/dev/null | awk '{print $2}')" != "$WASM_BINDGEN_VERSION" ]; then
   echo "setup: installing wasm-bindgen-cli $WASM_BINDGEN_VERSION (takes a few minutes)"
   # Not --locked: its lock file pins a crate version the registry no longer serves.

@@ -7,8 +7,8 @@ use serde::{Deserialize, Serialize};
 use unicode_normalization::UnicodeNormalization;
 
 use crate::error::{FeedError, QueryError};
-use crate::journey::{Builder, Check, Itinerary, LegKind, RouteRef};
 use crate::graph::Network;
+use crate::journey::{Builder, Check, Itinerary, LegKind, RouteRef};
 use crate::route::search::{self, Endpoints, Journey, Params, SearchState, StepFree};
 use crate::timetable::calendar::{clock_to_seconds, parse_clock, parse_date};
 use crate::timetable::{Access, FeedMeta, StopIdx, StopKind, Timetable, WalkConfig};
@@ -172,7 +172,12 @@ impl Engine {
     }
 
     /// Loads a feed whose files a shell provides (a folder, say) under `name` (made unique).
-    pub fn load_source(&mut self, name: &str, source: &mut dyn crate::feed::FeedSource, progress: crate::feed::Progress) -> Result<&FeedMeta, FeedError> {
+    pub fn load_source(
+        &mut self,
+        name: &str,
+        source: &mut dyn crate::feed::FeedSource,
+        progress: crate::feed::Progress,
+    ) -> Result<&FeedMeta, FeedError> {
         let name = crate::feed::unique_name(&self.tt, name);
         let idx = crate::feed::load_source(&mut self.tt, &name, source, &self.walk_cfg, progress)?;
         self.loaded();
@@ -270,7 +275,9 @@ impl Engine {
         let q = normalise(t);
         let candidates = self.search_stops(t, 50);
         let exact: Vec<&StopMatch> = candidates.iter().filter(|m| normalise(&m.name) == q).collect();
-        let pick = |m: &StopMatch| self.tt.stops.iter().position(|s| s.id == m.id && self.tt.feeds[s.feed.idx()].name == m.feed).map(|i| StopIdx(i as u32));
+        let pick = |m: &StopMatch| {
+            self.tt.stops.iter().position(|s| s.id == m.id && self.tt.feeds[s.feed.idx()].name == m.feed).map(|i| StopIdx(i as u32))
+        };
         let unique = |list: &[&StopMatch]| -> Option<StopIdx> {
             // One place: all hits belong to the same station.
             let first = pick(list.first()?)?;
@@ -288,11 +295,21 @@ impl Engine {
         }
         let label = |m: &StopMatch| format!("{} [{}]", m.name, m.id);
         if !exact.is_empty() || !candidates.is_empty() {
-            let list: Vec<String> = if exact.is_empty() { candidates.iter().take(8).map(label).collect() } else { exact.iter().take(8).map(|m| label(m)).collect() };
+            let list: Vec<String> = if exact.is_empty() {
+                candidates.iter().take(8).map(label).collect()
+            } else {
+                exact.iter().take(8).map(|m| label(m)).collect()
+            };
             return Err(QueryError::AmbiguousStop { text: t.to_string(), candidates: list });
         }
         // Nothing contains the text: suggest the closest names.
-        let mut scored: Vec<(f64, usize)> = self.names.iter().enumerate().filter(|(i, _)| matches!(self.tt.stops[*i].kind, StopKind::Platform | StopKind::Station) && self.tt.stops[*i].parent.is_none()).map(|(i, n)| (strsim::jaro_winkler(&q, n), i)).collect();
+        let mut scored: Vec<(f64, usize)> = self
+            .names
+            .iter()
+            .enumerate()
+            .filter(|(i, _)| matches!(self.tt.stops[*i].kind, StopKind::Platform | StopKind::Station) && self.tt.stops[*i].parent.is_none())
+            .map(|(i, n)| (strsim::jaro_winkler(&q, n), i))
+            .collect();
         scored.sort_by(|a, b| b.0.total_cmp(&a.0));
         let mut suggestions: Vec<String> = Vec::new();
         for (_, i) in scored {
@@ -314,7 +331,8 @@ impl Engine {
         if st.kind != StopKind::Station {
             return vec![s];
         }
-        let children: Vec<(usize, StopKind)> = self.tt.stops.iter().enumerate().filter(|(_, c)| c.parent == Some(s)).map(|(i, c)| (i, c.kind)).collect();
+        let children: Vec<(usize, StopKind)> =
+            self.tt.stops.iter().enumerate().filter(|(_, c)| c.parent == Some(s)).map(|(i, c)| (i, c.kind)).collect();
         let entrances: Vec<StopIdx> = children.iter().filter(|c| c.1 == StopKind::Entrance).map(|c| StopIdx(c.0 as u32)).collect();
         if !entrances.is_empty() {
             return entrances;
@@ -365,7 +383,14 @@ impl Engine {
         let ends = Endpoints { origins: self.endpoints_of(from), targets: self.endpoints_of(to) };
         let tz = self.tt.feeds[0].timezone;
         let depart_s = clock_to_seconds(tz, date, h, m).ok_or_else(|| QueryError::BadTime(q.time.clone()))?.max(0) as u32;
-        let mut result = PlanResult { asked: q.clone(), journeys: vec![], nothing_found: None, step_free_extra_s: None, fewest_rides: vec![], notes: vec![] };
+        let mut result = PlanResult {
+            asked: q.clone(),
+            journeys: vec![],
+            nothing_found: None,
+            step_free_extra_s: None,
+            fewest_rides: vec![],
+            notes: vec![],
+        };
         self.network(date);
         let journeys = self.run_options(&ends, depart_s, &p, k);
         result.journeys = journeys.iter().map(|j| self.build(j, &ends, &p, depart_s)).collect();
@@ -377,7 +402,11 @@ impl Engine {
             result.fewest_rides = set.iter().map(|j| self.build(j, &ends, &p, depart_s)).collect();
         }
         if q.step_free != StepFree::Off {
-            let std = Params { step_free: StepFree::Off, walk_speed_mps: q.walking_speed_mps.unwrap_or(Params::new(StepFree::Off).walk_speed_mps), ..p.clone() };
+            let std = Params {
+                step_free: StepFree::Off,
+                walk_speed_mps: q.walking_speed_mps.unwrap_or(Params::new(StepFree::Off).walk_speed_mps),
+                ..p.clone()
+            };
             let standard = self.run_options(&ends, depart_s, &std, 1);
             if let (Some(s), Some(first)) = (standard.first(), result.journeys.first()) {
                 let si = self.build(s, &ends, &std, depart_s);
@@ -387,7 +416,11 @@ impl Engine {
                 if let Some(s) = standard.first() {
                     let si = self.build(s, &ends, &std, depart_s);
                     let blocked_by = self.blocking(&si, &p);
-                    result.nothing_found = Some(NoJourney::NoStepFreePath { standard_depart: si.depart.clone(), standard_arrive: si.arrive.clone(), blocked_by });
+                    result.nothing_found = Some(NoJourney::NoStepFreePath {
+                        standard_depart: si.depart.clone(),
+                        standard_arrive: si.arrive.clone(),
+                        blocked_by,
+                    });
                 }
             }
             if q.step_free == StepFree::Lenient && result.journeys.iter().any(|i| i.step_free == Access::Unknown) {
@@ -426,7 +459,13 @@ impl Engine {
         it.legs
             .iter()
             .filter(|leg| bad(leg.step_free.status))
-            .map(|leg| Blocked { kind: leg.kind, route: leg.route.clone(), start: leg.start.name.clone(), end: leg.end.name.clone(), checks: leg.step_free.checks.iter().filter(|c| bad(c.verdict)).cloned().collect() })
+            .map(|leg| Blocked {
+                kind: leg.kind,
+                route: leg.route.clone(),
+                start: leg.start.name.clone(),
+                end: leg.end.name.clone(),
+                checks: leg.step_free.checks.iter().filter(|c| bad(c.verdict)).cloned().collect(),
+            })
             .collect()
     }
 
@@ -435,7 +474,11 @@ impl Engine {
     fn why_none(&mut self, date: NaiveDate, ends: &Endpoints, depart_s: u32, p: &Params) -> Result<NoJourney, Itinerary> {
         if let Some((first, last)) = self.tt.date_range() {
             if date < first || date > last {
-                return Ok(NoJourney::OutsideFeedDates { date: date.to_string(), first_date: first.to_string(), last_date: last.to_string() });
+                return Ok(NoJourney::OutsideFeedDates {
+                    date: date.to_string(),
+                    first_date: first.to_string(),
+                    last_date: last.to_string(),
+                });
             }
         }
         let net = self.net.as_ref().expect("network built");
@@ -453,9 +496,19 @@ impl Engine {
     /// Earliest arrival at every stop within `limit_min` minutes ("what can be reached"), as
     /// minutes after the departure per stop index (`u32::MAX`: not reached), in the order of
     /// [`Engine::stop_ids`]: the compact form for drawing many stops.
-    pub fn reach_minutes(&mut self, from: &str, date: &str, time: &str, step_free: StepFree, limit_min: u32) -> Result<Vec<u32>, QueryError> {
+    pub fn reach_minutes(
+        &mut self,
+        from: &str,
+        date: &str,
+        time: &str,
+        step_free: StepFree,
+        limit_min: u32,
+    ) -> Result<Vec<u32>, QueryError> {
         let depart_s = self.reach_search(from, date, time, step_free, limit_min)?;
-        Ok(self.state.stop_arrivals()[..self.tt.stops.len()].iter().map(|&a| if a == u32::MAX { a } else { (a - depart_s).div_ceil(60) }).collect())
+        Ok(self.state.stop_arrivals()[..self.tt.stops.len()]
+            .iter()
+            .map(|&a| if a == u32::MAX { a } else { (a - depart_s).div_ceil(60) })
+            .collect())
     }
 
     /// The same as a list of the platforms reached, earliest first.
@@ -466,7 +519,12 @@ impl Engine {
             .iter()
             .enumerate()
             .filter(|(i, &a)| a != u32::MAX && self.tt.stops[*i].kind == StopKind::Platform)
-            .map(|(i, &a)| Reach { stop_id: &self.tt.stops[i].id, name: &self.tt.stops[i].name, arrive_s: a, minutes: (a - depart_s).div_ceil(60) })
+            .map(|(i, &a)| Reach {
+                stop_id: &self.tt.stops[i].id,
+                name: &self.tt.stops[i].name,
+                arrive_s: a,
+                minutes: (a - depart_s).div_ceil(60),
+            })
             .collect();
         out.sort_by_key(|r| r.arrive_s);
         Ok(out)
@@ -497,16 +555,32 @@ impl Engine {
     /// Stops and lines for a schematic drawing.
     pub fn sketch(&self) -> Sketch {
         let tt = &self.tt;
-        let mut sk = Sketch { min_lat: f64::INFINITY, min_lon: f64::INFINITY, max_lat: f64::NEG_INFINITY, max_lon: f64::NEG_INFINITY, stops: vec![], lines: vec![] };
+        let mut sk = Sketch {
+            min_lat: f64::INFINITY,
+            min_lon: f64::INFINITY,
+            max_lat: f64::NEG_INFINITY,
+            max_lon: f64::NEG_INFINITY,
+            stops: vec![],
+            lines: vec![],
+        };
         for s in &tt.stops {
-            if !s.lat.is_finite() || !matches!(s.kind, StopKind::Platform | StopKind::Station) || (s.kind == StopKind::Platform && s.parent.is_some()) {
+            if !s.lat.is_finite()
+                || !matches!(s.kind, StopKind::Platform | StopKind::Station)
+                || (s.kind == StopKind::Platform && s.parent.is_some())
+            {
                 continue;
             }
             sk.min_lat = sk.min_lat.min(s.lat);
             sk.max_lat = sk.max_lat.max(s.lat);
             sk.min_lon = sk.min_lon.min(s.lon);
             sk.max_lon = sk.max_lon.max(s.lon);
-            sk.stops.push(SketchStop { id: s.id.clone(), name: s.name.clone(), lat: s.lat, lon: s.lon, station: s.kind == StopKind::Station });
+            sk.stops.push(SketchStop {
+                id: s.id.clone(),
+                name: s.name.clone(),
+                lat: s.lat,
+                lon: s.lon,
+                station: s.kind == StopKind::Station,
+            });
         }
         // One drawing per route: its longest trip's shape, or its stops in order.
         let mut best: Vec<Option<usize>> = vec![None; tt.routes.len()];
@@ -524,7 +598,12 @@ impl Engine {
                 None => trip.events().map(|e| tt.stop(tt.ev_stop[e])).map(|s| [s.lat as f32, s.lon as f32]).collect(),
             };
             let route = &tt.routes[r];
-            sk.lines.push(SketchLine { route_id: route.id.clone(), short_name: route.short_name.clone(), color: route.color.clone(), points });
+            sk.lines.push(SketchLine {
+                route_id: route.id.clone(),
+                short_name: route.short_name.clone(),
+                color: route.color.clone(),
+                points,
+            });
         }
         sk
     }

@@ -9,15 +9,16 @@ use std::fmt;
 
 /// One problem found in a feed, located as precisely as the input allows.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+/// (Short strings are boxed, so a `Result` carrying one stays small.)
 pub struct FeedIssue {
     /// Name of the feed (file stem of the zip or folder) the problem belongs to.
     pub feed: String,
     /// File inside the feed, e.g. `stop_times.txt`; `None` for the archive itself.
-    pub file: Option<String>,
+    pub file: Option<Box<str>>,
     /// 1-based line number, the header being line 1.
     pub line: Option<u64>,
-    pub field: Option<String>,
-    pub value: Option<String>,
+    pub field: Option<Box<str>>,
+    pub value: Option<Box<str>>,
     /// What is wrong and what was expected.
     pub message: String,
 }
@@ -27,7 +28,7 @@ impl FeedIssue {
         FeedIssue { feed: feed.to_string(), file: None, line: None, field: None, value: None, message: message.into() }
     }
     pub fn file(mut self, file: &str) -> Self {
-        self.file = Some(file.to_string());
+        self.file = Some(file.into());
         self
     }
     pub fn line(mut self, line: u64) -> Self {
@@ -35,7 +36,7 @@ impl FeedIssue {
         self
     }
     pub fn field(mut self, field: &str) -> Self {
-        self.field = Some(field.to_string());
+        self.field = Some(field.into());
         self
     }
     pub fn value(mut self, value: &str) -> Self {
@@ -43,7 +44,7 @@ impl FeedIssue {
         if v.len() < value.len() {
             v.push('…');
         }
-        self.value = Some(v);
+        self.value = Some(v.into());
         self
     }
 }

@@ -46,7 +46,9 @@ fn load(e: &mut Engine, case: &BadFeed) -> (Got, Duration) {
         Ok(meta) => Got::Loaded(meta.warnings.issues.clone()),
         Err(err) => Got::Fatal(err.0),
     }));
-    let got = got.unwrap_or_else(|p| Got::Panic(p.downcast_ref::<String>().cloned().or_else(|| p.downcast_ref::<&str>().map(|s| s.to_string())).unwrap_or_default()));
+    let got = got.unwrap_or_else(|p| {
+        Got::Panic(p.downcast_ref::<String>().cloned().or_else(|| p.downcast_ref::<&str>().map(|s| s.to_string())).unwrap_or_default())
+    });
     (got, t.elapsed())
 }
 
@@ -70,14 +72,23 @@ fn judge(case: &BadFeed, got: &Got, e: &mut Engine) -> Result<(), String> {
             }
             Ok(())
         }
-        (Expect::Fatal { .. }, Got::Loaded(w)) => Err(format!("expected a fatal error, the feed loaded with {} warnings: {:?}", w.len(), w.iter().map(describe).collect::<Vec<_>>())),
+        (Expect::Fatal { .. }, Got::Loaded(w)) => Err(format!(
+            "expected a fatal error, the feed loaded with {} warnings: {:?}",
+            w.len(),
+            w.iter().map(describe).collect::<Vec<_>>()
+        )),
         (_, Got::Fatal(i)) => Err(format!("expected the feed to load, got fatal {}", describe(i))),
         (Expect::Warning { file, line, field }, Got::Loaded(w)) => {
             let hit = w.iter().find(|i| i.file.as_deref() == Some(*file) && i.line == Some(*line) && i.field.as_deref() == Some(*field));
             match hit {
                 Some(i) if !i.message.trim().is_empty() => {}
                 Some(_) => return Err("warning with an empty message".into()),
-                None => return Err(format!("expected a warning at {file} line {line} field {field}; warnings: {:?}", w.iter().map(describe).collect::<Vec<_>>())),
+                None => {
+                    return Err(format!(
+                        "expected a warning at {file} line {line} field {field}; warnings: {:?}",
+                        w.iter().map(describe).collect::<Vec<_>>()
+                    ))
+                }
             }
             // The rest of the feed loads: it still has its stops and answers a query.
             support::badfeeds::first_a_to_c(e, "bad").map(|_| ())
@@ -177,14 +188,27 @@ fn corpus_outcomes() {
         }
         let r = run_case(case);
         match (&r, case.engine_issue) {
-            (Err(m), _) if m.starts_with("PANIC") || m.contains("answers differently") || m.contains("lost stops") || m.contains("was appended") => failures.push(format!("{}: {m}", case.name)),
+            (Err(m), _)
+                if m.starts_with("PANIC")
+                    || m.contains("answers differently")
+                    || m.contains("lost stops")
+                    || m.contains("was appended") =>
+            {
+                failures.push(format!("{}: {m}", case.name))
+            }
             (Err(m), Some(issue)) => known.push(format!("{} (known engine issue: {issue}): {m}", case.name)),
-            (Ok(()), Some(issue)) => failures.push(format!("{}: marked as engine issue \"{issue}\" but now right; remove the mark", case.name)),
+            (Ok(()), Some(issue)) => {
+                failures.push(format!("{}: marked as engine issue \"{issue}\" but now right; remove the mark", case.name))
+            }
             (Err(m), None) => failures.push(format!("{} [{}]: {m}", case.name, case.source)),
             (Ok(()), None) => {}
         }
     }
-    println!("bad-feed corpus: {} feeds, {fatal} fatal, {warnings} warnings, {loads} load fine; {} known engine issues", corpus.len(), known.len());
+    println!(
+        "bad-feed corpus: {} feeds, {fatal} fatal, {warnings} warnings, {loads} load fine; {} known engine issues",
+        corpus.len(),
+        known.len()
+    );
     for k in &known {
         println!("  {k}");
     }

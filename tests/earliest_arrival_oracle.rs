@@ -75,12 +75,18 @@ struct Case {
 fn trip(n: usize) -> impl Strategy<Value = TripSpec> {
     let event = (1..n, 1u32..=6, 0u32..=2, prop::bool::weighted(0.8), prop::bool::weighted(0.8))
         .prop_map(|(step, travel_min, dwell_min, pickup, drop_off)| Event { step, travel_min, dwell_min, pickup, drop_off });
-    (0..n, 360u32..=420, prop::collection::vec(event, 2..=8)).prop_map(|(first_stop, start_min, events)| TripSpec { first_stop, start_min, events })
+    (0..n, 360u32..=420, prop::collection::vec(event, 2..=8)).prop_map(|(first_stop, start_min, events)| TripSpec {
+        first_stop,
+        start_min,
+        events,
+    })
 }
 
 fn case() -> impl Strategy<Value = Case> {
     (3usize..=8)
-        .prop_flat_map(|n| (Just(n), prop::collection::vec(trip(n), 2..=12), any::<Index>(), any::<Index>(), 1..n, 350u32..=430, prop::bool::ANY))
+        .prop_flat_map(|n| {
+            (Just(n), prop::collection::vec(trip(n), 2..=12), any::<Index>(), any::<Index>(), 1..n, 350u32..=430, prop::bool::ANY)
+        })
         .prop_map(|(n, trips, which_trip, which_event, target_step, depart_min, penalty)| {
             // Start where some trip stops, so that many cases have a journey.
             let t = which_trip.get(&trips);

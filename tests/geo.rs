@@ -60,18 +60,27 @@ fn published_worked_example() {
 fn walk_feed() -> Feed {
     Feed::new("Etc/GMT-1")
         .one_route()
-        .file("stops.txt", "stop_id,stop_name,stop_lat,stop_lon
+        .file(
+            "stops.txt",
+            "stop_id,stop_name,stop_lat,stop_lon
             A,Ashfield Gate,52.0000,13.00
             B,Bramble Gate,52.0018,13.00
             C,Cobble Gate,52.0063,13.00
             D,Dovecote End,52.10,13.00
-            E,Elmstead End,52.20,13.00")
-        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
-            ALL,1,1,1,1,1,1,1,20260101,20261231")
+            E,Elmstead End,52.20,13.00",
+        )
+        .file(
+            "calendar.txt",
+            "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+            ALL,1,1,1,1,1,1,1,20260101,20261231",
+        )
         .file("trips.txt", "route_id,service_id,trip_id\nR,ALL,T")
-        .file("stop_times.txt", "trip_id,arrival_time,departure_time,stop_id,stop_sequence
+        .file(
+            "stop_times.txt",
+            "trip_id,arrival_time,departure_time,stop_id,stop_sequence
             T,09:00:00,09:00:00,D,1
-            T,09:20:00,09:20:00,E,2")
+            T,09:20:00,09:20:00,E,2",
+        )
 }
 
 #[test]

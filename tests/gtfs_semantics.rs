@@ -29,16 +29,25 @@ fn night_feed() -> Feed {
     Feed::new("Etc/GMT-1")
         .one_route()
         .file("stops.txt", TWO_STOPS)
-        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
-            MON,1,0,0,0,0,0,0,20260601,20260630")
-        .file("trips.txt", "route_id,service_id,trip_id
+        .file(
+            "calendar.txt",
+            "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+            MON,1,0,0,0,0,0,0,20260601,20260630",
+        )
+        .file(
+            "trips.txt",
+            "route_id,service_id,trip_id
             R,MON,NIGHT
-            R,MON,DAY")
-        .file("stop_times.txt", "trip_id,arrival_time,departure_time,stop_id,stop_sequence
+            R,MON,DAY",
+        )
+        .file(
+            "stop_times.txt",
+            "trip_id,arrival_time,departure_time,stop_id,stop_sequence
             NIGHT,25:10:00,25:10:00,A,1
             NIGHT,25:30:00,25:30:00,B,2
             DAY,8:05:00,8:05:00,A,1
-            DAY,8:25:00,8:25:00,B,2")
+            DAY,8:25:00,8:25:00,B,2",
+        )
 }
 
 #[test]
@@ -80,17 +89,26 @@ fn dst_feed() -> Feed {
     Feed::new("CET")
         .one_route()
         .file("stops.txt", TWO_STOPS)
-        .file("calendar_dates.txt", "service_id,date,exception_type
+        .file(
+            "calendar_dates.txt",
+            "service_id,date,exception_type
             DST,20260329,1
-            DST,20261025,1")
-        .file("trips.txt", "route_id,service_id,trip_id
+            DST,20261025,1",
+        )
+        .file(
+            "trips.txt",
+            "route_id,service_id,trip_id
             R,DST,EARLY
-            R,DST,MORNING")
-        .file("stop_times.txt", "trip_id,arrival_time,departure_time,stop_id,stop_sequence
+            R,DST,MORNING",
+        )
+        .file(
+            "stop_times.txt",
+            "trip_id,arrival_time,departure_time,stop_id,stop_sequence
             EARLY,01:00:00,01:00:00,A,1
             EARLY,01:20:00,01:20:00,B,2
             MORNING,08:00:00,08:00:00,A,1
-            MORNING,08:20:00,08:20:00,B,2")
+            MORNING,08:20:00,08:20:00,B,2",
+        )
 }
 
 #[test]
@@ -123,12 +141,18 @@ fn noon_minus_twelve_hours_on_the_spring_clock_change() {
     // A stop_time of 08:00:00 is origin + 8 h, shown as local 08:00 (derived above).
     let r = plan(&mut engine, &query("A", "B", "2026-03-29", "07:00"), StepFree::Off);
     let it = &r.journeys[0];
-    assert_eq!((it.legs[0].trip_id.as_deref(), it.depart.as_str(), it.depart_s, it.arrive.as_str()), (Some("MORNING"), "08:00", 8 * 3600, "08:20"));
+    assert_eq!(
+        (it.legs[0].trip_id.as_deref(), it.depart.as_str(), it.depart_s, it.arrive.as_str()),
+        (Some("MORNING"), "08:00", 8 * 3600, "08:20")
+    );
     // A stop_time of 01:00:00 is origin + 1 h: 00:00 local, because the origin is 23:00 of the
     // previous day (derived above from the reference's definition).
     let r = plan(&mut engine, &query("A", "B", "2026-03-29", "00:00"), StepFree::Off);
     let it = &r.journeys[0];
-    assert_eq!((it.legs[0].trip_id.as_deref(), it.depart.as_str(), it.depart_s, it.arrive.as_str()), (Some("EARLY"), "00:00", 3600, "00:20"));
+    assert_eq!(
+        (it.legs[0].trip_id.as_deref(), it.depart.as_str(), it.depart_s, it.arrive.as_str()),
+        (Some("EARLY"), "00:00", 3600, "00:20")
+    );
 }
 
 #[test]
@@ -161,15 +185,24 @@ fn calendar_dates_add_and_remove_single_dates() {
     let mut engine = Feed::new("Etc/GMT-1")
         .one_route()
         .file("stops.txt", TWO_STOPS)
-        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
-            WK,1,1,1,1,1,0,0,20260601,20260630")
-        .file("calendar_dates.txt", "service_id,date,exception_type
+        .file(
+            "calendar.txt",
+            "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+            WK,1,1,1,1,1,0,0,20260601,20260630",
+        )
+        .file(
+            "calendar_dates.txt",
+            "service_id,date,exception_type
             WK,20260606,1
-            WK,20260610,2")
+            WK,20260610,2",
+        )
         .file("trips.txt", "route_id,service_id,trip_id\nR,WK,T")
-        .file("stop_times.txt", "trip_id,arrival_time,departure_time,stop_id,stop_sequence
+        .file(
+            "stop_times.txt",
+            "trip_id,arrival_time,departure_time,stop_id,stop_sequence
             T,09:00:00,09:00:00,A,1
-            T,09:20:00,09:20:00,B,2")
+            T,09:20:00,09:20:00,B,2",
+        )
         .load();
     let runs = |engine: &mut timeweave::Engine, d: &str| !plan(engine, &query("A", "B", d, "08:00"), StepFree::Off).journeys.is_empty();
     // GTFS Schedule reference, calendar.txt: the weekly pattern applies from start_date to
@@ -192,25 +225,40 @@ fn calendar_dates_add_and_remove_single_dates() {
 fn frequency_feed() -> Feed {
     Feed::new("Etc/GMT-1")
         .one_route()
-        .file("stops.txt", "stop_id,stop_name,stop_lat,stop_lon
+        .file(
+            "stops.txt",
+            "stop_id,stop_name,stop_lat,stop_lon
             A,Alder Quay,52.00,13.00
             B,Birch Row,52.05,13.00
             C,Cedar Steps,52.10,13.00
-            D,Dogwood Lane,52.15,13.00")
-        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
-            ALL,1,1,1,1,1,1,1,20260101,20261231")
-        .file("trips.txt", "route_id,service_id,trip_id
+            D,Dogwood Lane,52.15,13.00",
+        )
+        .file(
+            "calendar.txt",
+            "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+            ALL,1,1,1,1,1,1,1,20260101,20261231",
+        )
+        .file(
+            "trips.txt",
+            "route_id,service_id,trip_id
             R,ALL,EXACT
-            R,ALL,HEADWAY")
+            R,ALL,HEADWAY",
+        )
         // The EXACT template's absolute times (10:00) are deliberately outside its window.
-        .file("stop_times.txt", "trip_id,arrival_time,departure_time,stop_id,stop_sequence
+        .file(
+            "stop_times.txt",
+            "trip_id,arrival_time,departure_time,stop_id,stop_sequence
             EXACT,10:00:00,10:00:00,A,1
             EXACT,10:12:00,10:12:00,B,2
             HEADWAY,06:00:00,06:00:00,C,1
-            HEADWAY,06:15:00,06:15:00,D,2")
-        .file("frequencies.txt", "trip_id,start_time,end_time,headway_secs,exact_times
+            HEADWAY,06:15:00,06:15:00,D,2",
+        )
+        .file(
+            "frequencies.txt",
+            "trip_id,start_time,end_time,headway_secs,exact_times
             EXACT,06:00:00,08:00:00,1800,1
-            HEADWAY,06:00:00,07:00:00,900,0")
+            HEADWAY,06:00:00,07:00:00,900,0",
+        )
 }
 
 #[test]
@@ -259,7 +307,9 @@ fn headway_based_frequencies_are_expanded_and_flagged() {
 fn wheelchair_feed() -> Feed {
     Feed::new("Etc/GMT-1")
         .one_route()
-        .file("stops.txt", "stop_id,stop_name,stop_lat,stop_lon,location_type,parent_station,wheelchair_boarding
+        .file(
+            "stops.txt",
+            "stop_id,stop_name,stop_lat,stop_lon,location_type,parent_station,wheelchair_boarding
             ST_Y,Yarrow Station,52.00,13.00,1,,1
             P_Y,Yarrow Station platform,52.00,13.00,0,ST_Y,
             ST_N,Nettle Station,52.05,13.00,1,,2
@@ -268,16 +318,25 @@ fn wheelchair_feed() -> Feed {
             P_H1,Heron Station platform 1,52.10,13.00,0,ST_H,2
             P_H2,Heron Station platform 2,52.1003,13.00,0,ST_H,
             U,Umber Corner,52.15,13.00,0,,0
-            X,Xylem Park,52.20,13.00,0,,1")
-        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
-            ALL,1,1,1,1,1,1,1,20260101,20261231")
-        .file("trips.txt", "route_id,service_id,trip_id,wheelchair_accessible
+            X,Xylem Park,52.20,13.00,0,,1",
+        )
+        .file(
+            "calendar.txt",
+            "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+            ALL,1,1,1,1,1,1,1,20260101,20261231",
+        )
+        .file(
+            "trips.txt",
+            "route_id,service_id,trip_id,wheelchair_accessible
             R,ALL,TY,1
             R,ALL,TN,1
             R,ALL,TH1,1
             R,ALL,TH2,1
-            R,ALL,TU,1")
-        .file("stop_times.txt", "trip_id,arrival_time,departure_time,stop_id,stop_sequence
+            R,ALL,TU,1",
+        )
+        .file(
+            "stop_times.txt",
+            "trip_id,arrival_time,departure_time,stop_id,stop_sequence
             TY,08:10:00,08:10:00,P_Y,1
             TY,08:30:00,08:30:00,X,2
             TN,08:10:00,08:10:00,P_N,1
@@ -287,15 +346,14 @@ fn wheelchair_feed() -> Feed {
             TH2,08:35:00,08:35:00,P_H2,1
             TH2,08:55:00,08:55:00,X,2
             TU,08:10:00,08:10:00,U,1
-            TU,08:30:00,08:30:00,X,2")
+            TU,08:30:00,08:30:00,X,2",
+        )
 }
 
 #[test]
 fn child_platforms_inherit_wheelchair_boarding_from_their_station() {
     let engine = wheelchair_feed().load();
-    let stop = |id: &str| {
-        engine.tt.stops.iter().find(|s| s.id == id).expect("stop loaded")
-    };
+    let stop = |id: &str| engine.tt.stops.iter().find(|s| s.id == id).expect("stop loaded");
     // GTFS Schedule reference, stops.txt wheelchair_boarding, child stops: "0 or empty - Stop will
     // inherit its wheelchair_boarding behavior from the parent station, if specified in the parent."
     assert_eq!((stop("P_Y").wheelchair, stop("P_Y").wheelchair_inherited), (Access::Yes, true));
@@ -315,7 +373,11 @@ fn step_free_planning_follows_inherited_and_own_wheelchair_boarding() {
     let r = plan(&mut engine, &query("ST_Y", "X", "2026-06-10", "08:00"), StepFree::Strict);
     let it = r.journeys.first().unwrap_or_else(|| panic!("{r:?}"));
     assert_eq!((it.step_free, it.legs[0].trip_id.as_deref()), (Access::Yes, Some("TY")));
-    assert!(it.legs[0].step_free.checks.iter().any(|c| matches!(&c.fact, Fact::Stop { inherited_from: Some(_), .. })), "{:?}", it.legs[0].step_free);
+    assert!(
+        it.legs[0].step_free.checks.iter().any(|c| matches!(&c.fact, Fact::Stop { inherited_from: Some(_), .. })),
+        "{:?}",
+        it.legs[0].step_free
+    );
 
     // Inherited 2: no step-free journey, strict or lenient; the standard one exists and is named.
     for sf in [StepFree::Strict, StepFree::Lenient] {
@@ -323,7 +385,10 @@ fn step_free_planning_follows_inherited_and_own_wheelchair_boarding() {
         assert!(r.journeys.is_empty(), "{sf:?}: {r:?}");
         let why = r.nothing_found.as_ref().expect("a reason");
         let NoJourney::NoStepFreePath { blocked_by, .. } = why else { panic!("{why:?}") };
-        assert!(blocked_by.iter().flat_map(|b| &b.checks).any(|c| matches!(&c.fact, Fact::Stop { stop_id, .. } if stop_id == "P_N")), "{why:?}");
+        assert!(
+            blocked_by.iter().flat_map(|b| &b.checks).any(|c| matches!(&c.fact, Fact::Stop { stop_id, .. } if stop_id == "P_N")),
+            "{why:?}"
+        );
     }
     assert!(!plan(&mut engine, &query("ST_N", "X", "2026-06-10", "08:00"), StepFree::Off).journeys.is_empty());
 
@@ -376,14 +441,20 @@ fn transfer_feed(trips: &[&str], transfers: Option<&str>) -> Feed {
         .one_route()
         // A and B are 100 m apart (0.0009° of latitude), F 445 m from A; O and D are far from
         // everything.
-        .file("stops.txt", "stop_id,stop_name,stop_lat,stop_lon
+        .file(
+            "stops.txt",
+            "stop_id,stop_name,stop_lat,stop_lon
             O,Osier Gate,52.30,13.00
             A,Aspen Yard,52.00,13.00
             B,Beech Yard,52.0009,13.00
             F,Fir Yard,52.0040,13.00
-            D,Damson Hill,52.10,13.00")
-        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
-            ALL,1,1,1,1,1,1,1,20260101,20261231")
+            D,Damson Hill,52.10,13.00",
+        )
+        .file(
+            "calendar.txt",
+            "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+            ALL,1,1,1,1,1,1,1,20260101,20261231",
+        )
         .file("trips.txt", &trip_rows)
         .file("stop_times.txt", &times);
     match transfers {
@@ -496,20 +567,29 @@ fn transfer_type_2_min_transfer_time_between_nearby_stops_is_respected() {
 fn pickup_type_and_drop_off_type_1_are_respected() {
     let mut engine = Feed::new("Etc/GMT-1")
         .one_route()
-        .file("stops.txt", "stop_id,stop_name,stop_lat,stop_lon
+        .file(
+            "stops.txt",
+            "stop_id,stop_name,stop_lat,stop_lon
             O,Orchard End,52.00,13.00
             M,Medlar Cross,52.05,13.00
-            D,Dunlin Fields,52.10,13.00")
-        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
-            ALL,1,1,1,1,1,1,1,20260101,20261231")
+            D,Dunlin Fields,52.10,13.00",
+        )
+        .file(
+            "calendar.txt",
+            "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+            ALL,1,1,1,1,1,1,1,20260101,20261231",
+        )
         .file("trips.txt", "route_id,service_id,trip_id\nR,ALL,P1\nR,ALL,P2")
-        .file("stop_times.txt", "trip_id,arrival_time,departure_time,stop_id,stop_sequence,pickup_type,drop_off_type
+        .file(
+            "stop_times.txt",
+            "trip_id,arrival_time,departure_time,stop_id,stop_sequence,pickup_type,drop_off_type
             P1,08:00:00,08:00:00,O,1,0,0
             P1,08:10:00,08:10:00,M,2,1,1
             P1,08:20:00,08:20:00,D,3,0,0
             P2,09:00:00,09:00:00,O,1,0,0
             P2,09:10:00,09:10:00,M,2,0,0
-            P2,09:20:00,09:20:00,D,3,0,0")
+            P2,09:20:00,09:20:00,D,3,0,0",
+        )
         .load();
     let first = |engine: &mut timeweave::Engine, from: &str, to: &str| {
         let r = plan(engine, &query(from, to, "2026-06-10", "07:50"), StepFree::Off);
@@ -533,20 +613,32 @@ fn pickup_type_and_drop_off_type_1_are_respected() {
 fn same_instant_feed() -> Feed {
     Feed::new("Etc/GMT-1")
         .one_route()
-        .file("stops.txt", "stop_id,stop_name,stop_lat,stop_lon
+        .file(
+            "stops.txt",
+            "stop_id,stop_name,stop_lat,stop_lon
             A,Alder Quay,52.00,13.00
             B,Birch Row,52.05,13.00
-            C,Cedar Gate,52.10,13.00")
-        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
-            MON,1,0,0,0,0,0,0,20260601,20260630")
-        .file("trips.txt", "route_id,service_id,trip_id
+            C,Cedar Gate,52.10,13.00",
+        )
+        .file(
+            "calendar.txt",
+            "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+            MON,1,0,0,0,0,0,0,20260601,20260630",
+        )
+        .file(
+            "trips.txt",
+            "route_id,service_id,trip_id
             R,MON,ONWARD
-            R,MON,FEEDER")
-        .file("stop_times.txt", "trip_id,arrival_time,departure_time,stop_id,stop_sequence
+            R,MON,FEEDER",
+        )
+        .file(
+            "stop_times.txt",
+            "trip_id,arrival_time,departure_time,stop_id,stop_sequence
             ONWARD,8:00:00,8:00:00,B,1
             ONWARD,8:10:00,8:10:00,C,2
             FEEDER,8:00:00,8:00:00,A,1
-            FEEDER,8:00:00,8:00:00,B,2")
+            FEEDER,8:00:00,8:00:00,B,2",
+        )
         .file("transfers.txt", "from_stop_id,to_stop_id,transfer_type\nB,B,1")
 }
 
@@ -597,16 +689,25 @@ fn stop_times_rows_in_any_order_give_the_same_journeys_and_warnings() {
         }
         Feed::new("Etc/GMT-1")
             .one_route()
-            .file("stops.txt", "stop_id,stop_name,stop_lat,stop_lon
+            .file(
+                "stops.txt",
+                "stop_id,stop_name,stop_lat,stop_lon
                 A,Alder Quay,52.00,13.00
                 B,Birch Row,52.05,13.00
-                C,Cedar End,52.10,13.00")
-            .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
-                ALL,1,1,1,1,1,1,1,20260101,20261231")
-            .file("trips.txt", "route_id,service_id,trip_id
+                C,Cedar End,52.10,13.00",
+            )
+            .file(
+                "calendar.txt",
+                "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+                ALL,1,1,1,1,1,1,1,20260101,20261231",
+            )
+            .file(
+                "trips.txt",
+                "route_id,service_id,trip_id
                 R,ALL,T1
                 R,ALL,T2
-                R,ALL,T3")
+                R,ALL,T3",
+            )
             .file("stop_times.txt", &times)
     };
     let answer = |order: &[usize]| {

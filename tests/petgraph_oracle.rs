@@ -15,8 +15,8 @@ mod support;
 use chrono::NaiveDate;
 use petgraph::graph::{Graph, NodeIndex};
 use support::{hms, Feed};
-use timeweave::route::bounds::UNREACHABLE;
 use timeweave::graph::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
+use timeweave::route::bounds::UNREACHABLE;
 use timeweave::route::search::{self, decode, node_time, Endpoints, Node, Params, SearchState, StepFree};
 use timeweave::timetable::{StopIdx, Timetable, NO_DROP_OFF};
 use timeweave::Engine;
@@ -80,14 +80,17 @@ fn random_feed(seed: u64) -> Feed {
     add_trip(&mut rng, "FREQ", 6 * 3600);
     daily_feed(&stops, &trips, &times)
         .file("frequencies.txt", "trip_id,start_time,end_time,headway_secs,exact_times\nFREQ,06:00:00,09:00:00,600,1")
-        .file("transfers.txt", "from_stop_id,to_stop_id,transfer_type,min_transfer_time,from_route_id,from_trip_id,to_trip_id
+        .file(
+            "transfers.txt",
+            "from_stop_id,to_stop_id,transfer_type,min_transfer_time,from_route_id,from_trip_id,to_trip_id
             S3,S3,2,300,,,
             S5,S5,1,,,,
             S7,S7,3,,,,
             S0,S1,2,400,,,
             S2,S3,3,,,,
             S4,S4,2,0,R,,
-            S9,S9,3,,,T3,T8")
+            S9,S9,3,,,T3,T8",
+        )
 }
 
 /// The same grid of stops served by a few fixed lines (a random path of 4–6 stops each, 30 trips
@@ -129,8 +132,11 @@ fn daily_feed(stops: &str, trips: &str, times: &str) -> Feed {
     Feed::new("Etc/GMT-1")
         .one_route()
         .file("stops.txt", stops)
-        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
-            ALL,1,1,1,1,1,1,1,20260101,20261231")
+        .file(
+            "calendar.txt",
+            "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+            ALL,1,1,1,1,1,1,1,20260101,20261231",
+        )
         .file("trips.txt", trips)
         .file("stop_times.txt", times)
 }
@@ -205,7 +211,13 @@ fn compare(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u32, p:
         let within = node_time(net, node).is_some_and(|t| t <= horizon);
         if within {
             let oracle = dist.get(&NodeIndex::new(node as usize)).map(|d| d + depart_s);
-            assert_eq!(engine, oracle, "node {node} ({:?}, time {:?}), query {depart_s} from {origins:?}, {p:?}", decode(net, node).1, node_time(net, node));
+            assert_eq!(
+                engine,
+                oracle,
+                "node {node} ({:?}, time {:?}), query {depart_s} from {origins:?}, {p:?}",
+                decode(net, node).1,
+                node_time(net, node)
+            );
         } else {
             assert_eq!(engine, None, "node {node} is past the time limit but was reached");
         }
@@ -217,7 +229,15 @@ fn compare(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u32, p:
 /// The goal-directed search (landmark bounds, pruning by the best sink) against petgraph's plain
 /// Dijkstra to the sink, for one target; returns whether it was reached. The caller keeps `st`
 /// across calls, so bounds kept from an earlier search are exercised too.
-fn compare_to_target(tt: &Timetable, net: &Network, st: &mut SearchState, origins: &[StopIdx], target: StopIdx, depart_s: u32, p: &Params) -> bool {
+fn compare_to_target(
+    tt: &Timetable,
+    net: &Network,
+    st: &mut SearchState,
+    origins: &[StopIdx],
+    target: StopIdx,
+    depart_s: u32,
+    p: &Params,
+) -> bool {
     let ends = Endpoints { origins: origins.to_vec(), targets: vec![target] };
     search::run_to_target(tt, net, st, &ends, depart_s, p);
     let engine = st.cost_of(st.sink(0));
@@ -241,7 +261,8 @@ fn compare_sweep(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u
     let dist = petgraph::algo::dijkstra(&g, source, None, |e| *e.weight());
     let horizon = depart_s + p.max_duration_s;
     let walk = tt.walk(p.step_free.walk_profile());
-    let walks = |s: StopIdx| walk.from(s).iter().filter(|f| f.length_m as f64 <= p.max_walk_m).map(|f| (f.to, f.duration_s(p.walk_speed_mps)));
+    let walks =
+        |s: StopIdx| walk.from(s).iter().filter(|f| f.length_m as f64 <= p.max_walk_m).map(|f| (f.to, f.duration_s(p.walk_speed_mps)));
     let mut oracle = vec![u32::MAX; tt.stops.len()];
     let mut arrive = |s: StopIdx, t: u32| oracle[s.idx()] = oracle[s.idx()].min(t);
     for &o in origins {
@@ -288,10 +309,8 @@ fn node_costs_equal_petgraph_dijkstra() {
     assert!(tt.walk_standard.len() > 20, "the grid has walking links");
 
     let off = Params::default();
-    let mut heavy = Params { transfer_penalty_s: 120, walk_weight: 2.0, ..Params::default() };
-    let mut all_day = Params::default();
-    all_day.max_duration_s = 30 * 3600;
-    heavy.max_walk_m = 500.0;
+    let heavy = Params { transfer_penalty_s: 120, walk_weight: 2.0, max_walk_m: 500.0, ..Params::default() };
+    let all_day = Params { max_duration_s: 30 * 3600, ..Params::default() };
     let cases: Vec<(Vec<&str>, u32, Params)> = vec![
         (vec!["S0"], 7 * 3600, off.clone()),
         (vec!["S5", "S6"], 6 * 3600 + 1800, heavy),
@@ -324,7 +343,8 @@ fn goal_directed_sink_costs_equal_petgraph_dijkstra() {
         (vec!["S12"], 1200, Params { max_duration_s: 8 * 3600, ..Params::new(StepFree::Lenient) }),
         (vec!["S7"], 8 * 3600 + 17, Params { transfer_penalty_s: 0, max_duration_s: 3600, ..Params::default() }),
     ];
-    let cases: Vec<(Vec<StopIdx>, u32, Params)> = cases.into_iter().map(|(o, d, p)| (o.iter().map(|id| stop(tt, id)).collect(), d, p)).collect();
+    let cases: Vec<(Vec<StopIdx>, u32, Params)> =
+        cases.into_iter().map(|(o, d, p)| (o.iter().map(|id| stop(tt, id)).collect(), d, p)).collect();
     // Target by target, every case in turn on one search state: consecutive searches share the
     // target but not always the origin or walking setting, so kept bounds must be told apart.
     let mut st = SearchState::new();
@@ -401,7 +421,12 @@ fn boardings_bounds_never_exceed_the_fewest_boardings_petgraph_finds() {
                 let (a, z) = (e.source().index() as u32, e.target().index() as u32);
                 if a < nodes {
                     let boards = u32::from(search::is_boarding(&net, a, z));
-                    assert!(bound(a) <= bound(z) + boards, "bound drops by more than {boards} on {:?} → {:?} (target {t})", decode(&net, a).1, decode(&net, z).1);
+                    assert!(
+                        bound(a) <= bound(z) + boards,
+                        "bound drops by more than {boards} on {:?} → {:?} (target {t})",
+                        decode(&net, a).1,
+                        decode(&net, z).1
+                    );
                     rev.add_edge(e.target(), e.source(), boards);
                 }
             }
@@ -409,7 +434,12 @@ fn boardings_bounds_never_exceed_the_fewest_boardings_petgraph_finds() {
             let fewest = petgraph::algo::dijkstra(&rev, NodeIndex::new(sink as usize), None, |e| *e.weight());
             for (n, &k) in &fewest {
                 let node = n.index() as u32;
-                assert!(bound(node) <= k, "{:?}: bound {} above the fewest boardings {k} (target {t}, {p:?})", decode(&net, node).1, bound(node));
+                assert!(
+                    bound(node) <= k,
+                    "{:?}: bound {} above the fewest boardings {k} (target {t}, {p:?})",
+                    decode(&net, node).1,
+                    bound(node)
+                );
                 if bound(node) == k {
                     exact[k.min(3) as usize] += 1;
                 }
@@ -434,7 +464,10 @@ fn goal_directed_bounds_never_exceed_petgraph_costs_to_the_sink() {
     let sink = nodes - 1;
     let mut st = SearchState::new();
     let (mut exact, mut checked) = (0usize, 0usize);
-    let params = [Params::default(), Params { transfer_penalty_s: 120, walk_weight: 2.0, max_walk_m: 500.0, walk_speed_mps: 0.9, ..Params::new(StepFree::Lenient) }];
+    let params = [
+        Params::default(),
+        Params { transfer_penalty_s: 120, walk_weight: 2.0, max_walk_m: 500.0, walk_speed_mps: 0.9, ..Params::new(StepFree::Lenient) },
+    ];
     for p in params {
         let p = Params { max_duration_s: 40 * 3600, ..p };
         for t in 0..tt.stops.len() as u32 {
@@ -455,13 +488,26 @@ fn goal_directed_bounds_never_exceed_petgraph_costs_to_the_sink() {
                 for e in g.raw_edges() {
                     let (a, z) = (e.source().index(), e.target().index());
                     if a < nodes as usize && bound[a] != UNREACHABLE && bound[z] != UNREACHABLE {
-                        assert!(bound[a] <= e.weight + bound[z], "bound drops by more than the edge's {} on {:?} → {:?} ({} → {}; {o} → {t}, {p:?})", e.weight, decode(&net, a as u32).1, decode(&net, z as u32).1, bound[a], bound[z]);
+                        assert!(
+                            bound[a] <= e.weight + bound[z],
+                            "bound drops by more than the edge's {} on {:?} → {:?} ({} → {}; {o} → {t}, {p:?})",
+                            e.weight,
+                            decode(&net, a as u32).1,
+                            decode(&net, z as u32).1,
+                            bound[a],
+                            bound[z]
+                        );
                     }
                 }
                 for (n, &c) in &to_sink {
                     let node = n.index();
                     if node < nodes as usize {
-                        assert!(bound[node] <= c, "{:?}: bound {} above its cost to the sink {c} ({o} → {t}, {p:?})", decode(&net, node as u32).1, bound[node]);
+                        assert!(
+                            bound[node] <= c,
+                            "{:?}: bound {} above its cost to the sink {c} ({o} → {t}, {p:?})",
+                            decode(&net, node as u32).1,
+                            bound[node]
+                        );
                         checked += 1;
                         exact += usize::from(bound[node] == c);
                     }

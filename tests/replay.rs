@@ -121,11 +121,24 @@ impl Case {
 
 fn case() -> impl Strategy<Value = Case> {
     (3usize..=7).prop_flat_map(|n| {
-        let stop = (0u8..16, 0u8..3, prop::bool::weighted(0.3)).prop_map(|(pos, wheelchair, in_station)| StopSpec { pos, wheelchair, in_station });
-        let event = (1..n, 1u32..8, 0u32..3, prop::bool::weighted(0.85), prop::bool::weighted(0.85)).prop_map(|(step, travel_min, dwell_min, pickup, drop_off)| EventSpec { step, travel_min, dwell_min, pickup, drop_off });
-        let trip = (0..n, 0u32..60, prop::sample::select(vec![0u8, 1, 1, 1, 2]), prop::collection::vec(event, 2..=6)).prop_map(|(first_stop, start_min, wheelchair, events)| TripSpec { first_stop, start_min, wheelchair, events });
-        let pathway = (0..n, 1..n, 1u8..=5, any::<bool>()).prop_map(move |(from, d, mode, bidirectional)| PathwaySpec { from, to: (from + d) % n, mode, bidirectional });
-        let query = (0..n, 1..n, 0u32..100, any::<bool>()).prop_map(move |(from, d, min, strict)| QuerySpec { from, to: (from + d) % n, min, strict });
+        let stop =
+            (0u8..16, 0u8..3, prop::bool::weighted(0.3)).prop_map(|(pos, wheelchair, in_station)| StopSpec { pos, wheelchair, in_station });
+        let event = (1..n, 1u32..8, 0u32..3, prop::bool::weighted(0.85), prop::bool::weighted(0.85))
+            .prop_map(|(step, travel_min, dwell_min, pickup, drop_off)| EventSpec { step, travel_min, dwell_min, pickup, drop_off });
+        let trip = (0..n, 0u32..60, prop::sample::select(vec![0u8, 1, 1, 1, 2]), prop::collection::vec(event, 2..=6))
+            .prop_map(|(first_stop, start_min, wheelchair, events)| TripSpec { first_stop, start_min, wheelchair, events });
+        let pathway = (0..n, 1..n, 1u8..=5, any::<bool>()).prop_map(move |(from, d, mode, bidirectional)| PathwaySpec {
+            from,
+            to: (from + d) % n,
+            mode,
+            bidirectional,
+        });
+        let query = (0..n, 1..n, 0u32..100, any::<bool>()).prop_map(move |(from, d, min, strict)| QuerySpec {
+            from,
+            to: (from + d) % n,
+            min,
+            strict,
+        });
         (
             prop::collection::vec(stop, n),
             prop::sample::select(vec![0u8, 1, 1, 2]),
@@ -133,7 +146,13 @@ fn case() -> impl Strategy<Value = Case> {
             prop::collection::vec(pathway, 0..=3),
             prop::collection::vec(query, 3),
         )
-            .prop_map(|(stops, station_wheelchair, trips, pathways, queries)| Case { stops, station_wheelchair, trips, pathways, queries })
+            .prop_map(|(stops, station_wheelchair, trips, pathways, queries)| Case {
+                stops,
+                station_wheelchair,
+                trips,
+                pathways,
+                queries,
+            })
     })
 }
 
@@ -170,7 +189,15 @@ fn feed(c: &Case) -> Feed {
 
 /// Earliest arrival at `to` leaving `from` at `t0`: a Connection Scan repeated until nothing
 /// improves (so connections at equal times are handled whatever their order).
-fn oracle(c: &Case, links: &dyn Fn(usize) -> Vec<(usize, u32)>, from: usize, to: usize, t0: u32, strict: bool, change_s: u32) -> Option<u32> {
+fn oracle(
+    c: &Case,
+    links: &dyn Fn(usize) -> Vec<(usize, u32)>,
+    from: usize,
+    to: usize,
+    t0: u32,
+    strict: bool,
+    change_s: u32,
+) -> Option<u32> {
     const INF: u32 = u32::MAX;
     let n = c.stops.len();
     let mut ready = vec![INF; n];
@@ -243,7 +270,17 @@ fn check_case(c: &Case) -> Result<(), TestCaseError> {
         let t0 = 7 * 3600 + 50 * 60 + q.min * 60;
         let time = format!("{:02}:{:02}", t0 / 3600, t0 / 60 % 60);
         for penalty in [None, Some(0)] {
-            let pq = PlanQuery { from: format!("S{}", q.from), to: format!("S{}", q.to), date: DATE.into(), time: time.clone(), step_free: sf, change_penalty_s: penalty, walk_weight: Some(1.0), next: Some(3), ..PlanQuery::default() };
+            let pq = PlanQuery {
+                from: format!("S{}", q.from),
+                to: format!("S{}", q.to),
+                date: DATE.into(),
+                time: time.clone(),
+                step_free: sf,
+                change_penalty_s: penalty,
+                walk_weight: Some(1.0),
+                next: Some(3),
+                ..PlanQuery::default()
+            };
             let r = engine.plan(&pq).map_err(|e| TestCaseError::fail(format!("plan {pq:?}: {e}")))?;
             QUERIES.fetch_add(1, Ordering::Relaxed);
             let p: Params = engine.params_for(&pq).expect("params");
@@ -252,15 +289,25 @@ fn check_case(c: &Case) -> Result<(), TestCaseError> {
                 ITINERARIES.fetch_add(1, Ordering::Relaxed);
                 WALK_LEGS.fetch_add(it.legs.iter().filter(|l| l.kind != timeweave::journey::LegKind::Ride).count(), Ordering::Relaxed);
                 PATHWAY_STEPS.fetch_add(it.legs.iter().map(|l| l.pathways.len()).sum(), Ordering::Relaxed);
-                CHANGES.fetch_add(it.legs.iter().filter(|l| l.kind == timeweave::journey::LegKind::Ride).count().saturating_sub(1), Ordering::Relaxed);
+                CHANGES.fetch_add(
+                    it.legs.iter().filter(|l| l.kind == timeweave::journey::LegKind::Ride).count().saturating_sub(1),
+                    Ordering::Relaxed,
+                );
                 if let Err(m) = replay(&engine.tt, date, t0, &p, &from, &to, it) {
-                    return Err(TestCaseError::fail(format!("{m}\nquery {pq:?}\nitinerary {}", serde_json::to_string_pretty(it).unwrap_or_default())));
+                    return Err(TestCaseError::fail(format!(
+                        "{m}\nquery {pq:?}\nitinerary {}",
+                        serde_json::to_string_pretty(it).unwrap_or_default()
+                    )));
                 }
             }
             if penalty == Some(0) {
                 let walk = engine.tt.walk(sf.walk_profile());
                 let links = |s: usize| -> Vec<(usize, u32)> {
-                    walk.from(idx[s]).iter().filter(|f| f.length_m as f64 <= p.max_walk_m).filter_map(|f| idx.iter().position(|&x| x == f.to).map(|b| (b, f.duration_s(p.walk_speed_mps)))).collect()
+                    walk.from(idx[s])
+                        .iter()
+                        .filter(|f| f.length_m as f64 <= p.max_walk_m)
+                        .filter_map(|f| idx.iter().position(|&x| x == f.to).map(|b| (b, f.duration_s(p.walk_speed_mps))))
+                        .collect()
                 };
                 let want = oracle(c, &links, q.from, q.to, t0, q.strict, p.transfer_s());
                 let got = r.journeys.first().map(|i| i.arrive_s);
@@ -346,5 +393,8 @@ fn replay_rejects_tampered_itineraries() {
     replay(&e.tt, date, t0, &strict, &from, &at_c, &rides_only).expect("accessible ride replays under strict rules");
     let t1 = e.tt.trips.iter().position(|t| t.id == "T1").expect("T1");
     e.tt.trips[t1].wheelchair = timeweave::timetable::Access::No;
-    assert!(replay(&e.tt, date, t0, &strict, &from, &at_c, &rides_only).is_err(), "replay accepted a strict ride on a trip with wheelchair_accessible 2");
+    assert!(
+        replay(&e.tt, date, t0, &strict, &from, &at_c, &rides_only).is_err(),
+        "replay accepted a strict ride on a trip with wheelchair_accessible 2"
+    );
 }

@@ -9,7 +9,10 @@ fn feed(transfers: &str) -> Feed {
     Feed::new("Etc/GMT-1")
         .file("stops.txt", "stop_id,stop_name,stop_lat,stop_lon\nA,Stop A,52.00,13.00\nX,Stop X,52.05,13.00\nB,Stop B,52.10,13.00\n")
         .file("routes.txt", "route_id,agency_id,route_short_name,route_type\nR1,TA,1,3\nR2,TA,2,3\nR3,TA,3,3\n")
-        .file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date\nS,1,1,1,1,1,1,1,20260101,20271231\n")
+        .file(
+            "calendar.txt",
+            "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date\nS,1,1,1,1,1,1,1,20260101,20271231\n",
+        )
         .file("trips.txt", "route_id,service_id,trip_id\nR1,S,T1\nR2,S,T2\nR3,S,T3\n")
         .file(
             "stop_times.txt",
@@ -29,7 +32,10 @@ fn arrival(transfers: &str) -> Vec<String> {
     let mut q = query("A", "B", "2026-12-02", "07:55");
     q.next = Some(1);
     let r = plan(&mut e, &q, StepFree::Off);
-    r.journeys.iter().map(|i| format!("{} {}", i.arrive, i.legs.iter().filter_map(|l| l.trip_id.clone()).collect::<Vec<_>>().join("+"))).collect()
+    r.journeys
+        .iter()
+        .map(|i| format!("{} {}", i.arrive, i.legs.iter().filter_map(|l| l.trip_id.clone()).collect::<Vec<_>>().join("+")))
+        .collect()
 }
 
 #[test]

@@ -10,7 +10,8 @@ use timeweave::engine::{Engine, PlanQuery};
 const AGENCY: &str = "agency_id,agency_name,agency_url,agency_timezone\nFA,Fuzz Transit,https://transit.example/,Etc/GMT-1\n";
 const STOPS: &str = "stop_id,stop_name,stop_lat,stop_lon\nA,Alder Square,50.0,10.0\nB,Birch Lane,50.01,10.0\nC,Cedar Yard,50.02,10.0\n";
 const ROUTES: &str = "route_id,agency_id,route_short_name,route_long_name,route_type\nR,FA,1,Fuzz line,3\n";
-const CALENDAR: &str = "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date\nWK,1,1,1,1,1,1,1,20260101,20261231\n";
+const CALENDAR: &str =
+    "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date\nWK,1,1,1,1,1,1,1,20260101,20261231\n";
 const TRIPS: &str = "route_id,service_id,trip_id\nR,WK,T1\nR,WK,T2\n";
 const STOP_TIMES: &str = "trip_id,arrival_time,departure_time,stop_id,stop_sequence\nT1,08:00:00,08:00:00,A,1\nT1,08:05:00,08:06:00,B,2\nT1,08:10:00,08:10:00,C,3\nT2,09:00:00,09:00:00,A,1\nT2,09:10:00,09:10:00,C,2\n";
 

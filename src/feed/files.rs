@@ -41,9 +41,13 @@ pub enum FeedFiles<'a> {
 impl<'a> FeedFiles<'a> {
     pub fn from_zip(feed: &str, bytes: &'a [u8], limits: &Limits) -> Result<Self, FeedIssue> {
         if bytes.len() < 4 || &bytes[..2] != b"PK" {
-            return Err(FeedIssue::new(feed, "not a zip archive (a GTFS feed is a .zip of .txt files); the file does not start with the zip signature"));
+            return Err(FeedIssue::new(
+                feed,
+                "not a zip archive (a GTFS feed is a .zip of .txt files); the file does not start with the zip signature",
+            ));
         }
-        let mut archive = zip::ZipArchive::new(Cursor::new(bytes)).map_err(|e| FeedIssue::new(feed, format!("unreadable zip archive: {e}")))?;
+        let mut archive =
+            zip::ZipArchive::new(Cursor::new(bytes)).map_err(|e| FeedIssue::new(feed, format!("unreadable zip archive: {e}")))?;
         let mut names = Vec::new();
         let mut total: u64 = 0;
         for i in 0..archive.len() {
@@ -57,13 +61,27 @@ impl<'a> FeedFiles<'a> {
             }
             let (size, packed) = (entry.size(), entry.compressed_size().max(1));
             if size / packed > limits.max_ratio {
-                return Err(FeedIssue::new(feed, format!("{base} would expand {}× ({packed} bytes to {size}); refused as a decompression bomb (limit {}×)", size / packed, limits.max_ratio)).file(&base));
+                return Err(FeedIssue::new(
+                    feed,
+                    format!(
+                        "{base} would expand {}× ({packed} bytes to {size}); refused as a decompression bomb (limit {}×)",
+                        size / packed,
+                        limits.max_ratio
+                    ),
+                )
+                .file(&base));
             }
             total = total.saturating_add(size);
             names.push((base, i));
         }
         if total > limits.max_total_bytes {
-            return Err(FeedIssue::new(feed, format!("the archive expands to {total} bytes, more than the limit of {} bytes; refused before expanding", limits.max_total_bytes)));
+            return Err(FeedIssue::new(
+                feed,
+                format!(
+                    "the archive expands to {total} bytes, more than the limit of {} bytes; refused before expanding",
+                    limits.max_total_bytes
+                ),
+            ));
         }
         Ok(FeedFiles::Zip { archive, names, limit: limits.max_total_bytes })
     }

@@ -36,7 +36,13 @@ pub fn load_zip(tt: &mut Timetable, name: &str, bytes: &[u8], walk: &WalkConfig,
 
 /// Loads a feed from a [`FeedSource`] a shell provides (a folder, say) and appends it to `tt`.
 /// On error `tt` is unchanged.
-pub fn load_source(tt: &mut Timetable, name: &str, source: &mut dyn FeedSource, walk: &WalkConfig, progress: Progress) -> Result<FeedIdx, FeedError> {
+pub fn load_source(
+    tt: &mut Timetable,
+    name: &str,
+    source: &mut dyn FeedSource,
+    walk: &WalkConfig,
+    progress: Progress,
+) -> Result<FeedIdx, FeedError> {
     progress("reading", 0.0);
     load_files(tt, name, FeedFiles::from_source(source, &Limits::default()), walk, progress)
 }
@@ -52,7 +58,13 @@ pub fn unique_name(tt: &Timetable, base: &str) -> String {
     name
 }
 
-fn load_files(tt: &mut Timetable, name: &str, mut files: FeedFiles<'_>, walk: &WalkConfig, progress: Progress) -> Result<FeedIdx, FeedError> {
+fn load_files(
+    tt: &mut Timetable,
+    name: &str,
+    mut files: FeedFiles<'_>,
+    walk: &WalkConfig,
+    progress: Progress,
+) -> Result<FeedIdx, FeedError> {
     let feed = read_feed(name, &mut files, progress).map_err(FeedError)?;
     progress("building", 0.9);
     let idx = tt.append(feed);
@@ -151,7 +163,11 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
         }
     }
     if !files.has("calendar.txt") && !files.has("calendar_dates.txt") {
-        return Err(FeedIssue::new(feed, "neither calendar.txt nor calendar_dates.txt is present; one of them is required (GTFS Schedule reference)").file("calendar.txt"));
+        return Err(FeedIssue::new(
+            feed,
+            "neither calendar.txt nor calendar_dates.txt is present; one of them is required (GTFS Schedule reference)",
+        )
+        .file("calendar.txt"));
     }
 
     // agency.txt: the time zone every stop time is counted in.
@@ -166,11 +182,24 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
         return Err(FeedIssue::new(feed, "agency.txt has no usable row").file("agency.txt"));
     };
     let tz: Tz = first.timezone.parse().map_err(|_| {
-        FeedIssue::new(feed, "agency_timezone is not a time zone of the IANA tz database (e.g. \"Etc/GMT-1\")").file("agency.txt").line(agency_lines[0]).field("agency_timezone").value(&first.timezone)
+        FeedIssue::new(feed, "agency_timezone is not a time zone of the IANA tz database (e.g. \"Etc/GMT-1\")")
+            .file("agency.txt")
+            .line(agency_lines[0])
+            .field("agency_timezone")
+            .value(&first.timezone)
     })?;
     for (a, &line) in agencies.iter().zip(&agency_lines).skip(1) {
         if a.timezone != first.timezone {
-            w.push(FeedIssue::new(feed, format!("all agencies of a feed must share agency_timezone (GTFS Schedule reference); using {}", first.timezone)).file("agency.txt").line(line).field("agency_timezone").value(&a.timezone));
+            w.push(
+                FeedIssue::new(
+                    feed,
+                    format!("all agencies of a feed must share agency_timezone (GTFS Schedule reference); using {}", first.timezone),
+                )
+                .file("agency.txt")
+                .line(line)
+                .field("agency_timezone")
+                .value(&a.timezone),
+            );
         }
     }
     let agency_name: HashMap<String, String> = agencies.iter().map(|a| (a.id.clone().unwrap_or_default(), a.name.clone())).collect();
@@ -201,15 +230,33 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
         let (lat, lon) = (s.latitude.unwrap_or(f64::NAN), s.longitude.unwrap_or(f64::NAN));
         if needs_position {
             if !(-90.0..=90.0).contains(&lat) {
-                w.push(issue(format!("stop {}: stop_lat must be a WGS84 latitude −90…90 (required for location_type 0–2); stop skipped", s.id)).field("stop_lat").value(&lat.to_string()));
+                w.push(
+                    issue(format!(
+                        "stop {}: stop_lat must be a WGS84 latitude −90…90 (required for location_type 0–2); stop skipped",
+                        s.id
+                    ))
+                    .field("stop_lat")
+                    .value(&lat.to_string()),
+                );
                 return;
             }
             if !(-180.0..=180.0).contains(&lon) {
-                w.push(issue(format!("stop {}: stop_lon must be a WGS84 longitude −180…180 (required for location_type 0–2); stop skipped", s.id)).field("stop_lon").value(&lon.to_string()));
+                w.push(
+                    issue(format!(
+                        "stop {}: stop_lon must be a WGS84 longitude −180…180 (required for location_type 0–2); stop skipped",
+                        s.id
+                    ))
+                    .field("stop_lon")
+                    .value(&lon.to_string()),
+                );
                 return;
             }
             if lat == 0.0 && lon == 0.0 {
-                w.push(issue(format!("stop {}: position 0,0 is a placeholder, not a real stop position; stop skipped", s.id)).field("stop_lat").value("0"));
+                w.push(
+                    issue(format!("stop {}: position 0,0 is a placeholder, not a real stop position; stop skipped", s.id))
+                        .field("stop_lat")
+                        .value("0"),
+                );
                 return;
             }
         }
@@ -237,9 +284,21 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
     })?;
     for (child, parent, line) in parents {
         match stop_index.get(&parent) {
-            Some(&p) if p == child => w.push(FeedIssue::new(feed, "a stop cannot be its own parent_station; parent ignored").file("stops.txt").line(line).field("parent_station").value(&parent)),
+            Some(&p) if p == child => w.push(
+                FeedIssue::new(feed, "a stop cannot be its own parent_station; parent ignored")
+                    .file("stops.txt")
+                    .line(line)
+                    .field("parent_station")
+                    .value(&parent),
+            ),
             Some(&p) => tt.stops[child.idx()].parent = Some(p),
-            None => w.push(FeedIssue::new(feed, "parent_station names no stop of this feed; parent ignored").file("stops.txt").line(line).field("parent_station").value(&parent)),
+            None => w.push(
+                FeedIssue::new(feed, "parent_station names no stop of this feed; parent ignored")
+                    .file("stops.txt")
+                    .line(line)
+                    .field("parent_station")
+                    .value(&parent),
+            ),
         }
     }
     inherit_wheelchair(&mut tt);
@@ -252,11 +311,23 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
     let mut route_index: HashMap<String, RouteIdx> = HashMap::new();
     read_table(files, feed, "routes.txt", &["route_id", "route_type"], &mut w, |line, r: gtfs_structures::Route, w| {
         if route_index.contains_key(&r.id) {
-            w.push(FeedIssue::new(feed, "route_id is used twice; the later row is skipped").file("routes.txt").line(line).field("route_id").value(&r.id));
+            w.push(
+                FeedIssue::new(feed, "route_id is used twice; the later row is skipped")
+                    .file("routes.txt")
+                    .line(line)
+                    .field("route_id")
+                    .value(&r.id),
+            );
             return;
         }
         route_index.insert(r.id.clone(), RouteIdx(tt.routes.len() as u32));
-        let agency = r.agency_id.as_ref().and_then(|a| agency_name.get(a)).or_else(|| agencies.first().map(|a| &a.name)).cloned().unwrap_or_default();
+        let agency = r
+            .agency_id
+            .as_ref()
+            .and_then(|a| agency_name.get(a))
+            .or_else(|| agencies.first().map(|a| &a.name))
+            .cloned()
+            .unwrap_or_default();
         tt.routes.push(Route {
             feed: FeedIdx(0),
             short_name: r.short_name.clone().unwrap_or_default(),
@@ -279,39 +350,54 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
             ServiceIdx(tt.services.len() as u32 - 1)
         })
     };
-    read_table(files, feed, "calendar.txt", &["service_id", "monday", "tuesday", "wednesday", "thursday", "friday", "saturday", "sunday", "start_date", "end_date"], &mut w, |line, c: CalendarRow, w| {
-        let issue = |m: &str, field: &str, v: &str| FeedIssue::new(feed, m).file("calendar.txt").line(line).field(field).value(v);
-        let (Some(start), Some(end)) = (parse_gtfs_date(&c.start_date), parse_gtfs_date(&c.end_date)) else {
-            let bad = if parse_gtfs_date(&c.start_date).is_none() { ("start_date", &c.start_date) } else { ("end_date", &c.end_date) };
-            w.push(issue("not a date YYYYMMDD; row skipped", bad.0, bad.1));
-            return;
-        };
-        if end < start {
-            w.push(issue(&format!("end_date is before start_date {}; row skipped", c.start_date), "end_date", &c.end_date));
-            return;
-        }
-        let days = [c.monday, c.tuesday, c.wednesday, c.thursday, c.friday, c.saturday, c.sunday];
-        if days.iter().any(|&d| d > 1) {
-            w.push(issue("weekday fields must be 0 or 1; row skipped", "monday", ""));
-            return;
-        }
-        let s = service(&c.service_id, &mut tt);
-        let svc = &mut tt.services[s.idx()];
-        svc.weekdays = days.map(|d| d == 1);
-        svc.start = Some(start);
-        svc.end = Some(end);
-    })?;
+    read_table(
+        files,
+        feed,
+        "calendar.txt",
+        &["service_id", "monday", "tuesday", "wednesday", "thursday", "friday", "saturday", "sunday", "start_date", "end_date"],
+        &mut w,
+        |line, c: CalendarRow, w| {
+            let issue = |m: &str, field: &str, v: &str| FeedIssue::new(feed, m).file("calendar.txt").line(line).field(field).value(v);
+            let (Some(start), Some(end)) = (parse_gtfs_date(&c.start_date), parse_gtfs_date(&c.end_date)) else {
+                let bad = if parse_gtfs_date(&c.start_date).is_none() { ("start_date", &c.start_date) } else { ("end_date", &c.end_date) };
+                w.push(issue("not a date YYYYMMDD; row skipped", bad.0, bad.1));
+                return;
+            };
+            if end < start {
+                w.push(issue(&format!("end_date is before start_date {}; row skipped", c.start_date), "end_date", &c.end_date));
+                return;
+            }
+            let days = [c.monday, c.tuesday, c.wednesday, c.thursday, c.friday, c.saturday, c.sunday];
+            if days.iter().any(|&d| d > 1) {
+                w.push(issue("weekday fields must be 0 or 1; row skipped", "monday", ""));
+                return;
+            }
+            let s = service(&c.service_id, &mut tt);
+            let svc = &mut tt.services[s.idx()];
+            svc.weekdays = days.map(|d| d == 1);
+            svc.start = Some(start);
+            svc.end = Some(end);
+        },
+    )?;
     stage(progress, "calendar_dates.txt");
     read_table(files, feed, "calendar_dates.txt", &["service_id", "date", "exception_type"], &mut w, |line, c: CalendarDateRow, w| {
         let Some(date) = parse_gtfs_date(&c.date) else {
-            w.push(FeedIssue::new(feed, "not a date YYYYMMDD; row skipped").file("calendar_dates.txt").line(line).field("date").value(&c.date));
+            w.push(
+                FeedIssue::new(feed, "not a date YYYYMMDD; row skipped").file("calendar_dates.txt").line(line).field("date").value(&c.date),
+            );
             return;
         };
         let s = service(&c.service_id, &mut tt);
         match c.exception_type {
             1 => tt.services[s.idx()].added.push(date),
             2 => tt.services[s.idx()].removed.push(date),
-            other => w.push(FeedIssue::new(feed, "exception_type must be 1 (added) or 2 (removed); row skipped").file("calendar_dates.txt").line(line).field("exception_type").value(&other.to_string())),
+            other => w.push(
+                FeedIssue::new(feed, "exception_type must be 1 (added) or 2 (removed); row skipped")
+                    .file("calendar_dates.txt")
+                    .line(line)
+                    .field("exception_type")
+                    .value(&other.to_string()),
+            ),
         }
     })?;
 
@@ -328,7 +414,11 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
             return w.push(issue("route_id names no route in routes.txt; trip skipped", "route_id", &t.route_id));
         };
         let Some(&service) = service_index.get(&t.service_id) else {
-            return w.push(issue("service_id is in neither calendar.txt nor calendar_dates.txt; trip skipped", "service_id", &t.service_id));
+            return w.push(issue(
+                "service_id is in neither calendar.txt nor calendar_dates.txt; trip skipped",
+                "service_id",
+                &t.service_id,
+            ));
         };
         let shape = t.shape_id.as_ref().filter(|s| !s.is_empty()).map(|s| {
             let n = shape_ids.len() as u32;
@@ -354,23 +444,40 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
     // frequencies.txt
     stage(progress, "frequencies.txt");
     let mut frequencies: HashMap<TripIdx, Vec<FrequencyRow>> = HashMap::new();
-    read_table(files, feed, "frequencies.txt", &["trip_id", "start_time", "end_time", "headway_secs"], &mut w, |line, f: FrequencyRow, w| {
-        let issue = |m: &str, field: &str, v: &str| FeedIssue::new(feed, m).file("frequencies.txt").line(line).field(field).value(v);
-        let Some(&t) = trip_index.get(&f.trip_id) else {
-            return w.push(issue("trip_id names no trip in trips.txt; row skipped", "trip_id", &f.trip_id));
-        };
-        if f.headway_secs == 0 || f.end_time <= f.start_time {
-            return w.push(issue("headway_secs must be positive and end_time after start_time; row skipped", "headway_secs", &f.headway_secs.to_string()));
-        }
-        if !matches!(f.exact_times.as_deref(), None | Some("") | Some("0") | Some("1")) {
-            return w.push(issue("exact_times must be 0 or 1; row skipped", "exact_times", f.exact_times.as_deref().unwrap_or("")));
-        }
-        frequencies.entry(t).or_default().push(f);
-    })?;
+    read_table(
+        files,
+        feed,
+        "frequencies.txt",
+        &["trip_id", "start_time", "end_time", "headway_secs"],
+        &mut w,
+        |line, f: FrequencyRow, w| {
+            let issue = |m: &str, field: &str, v: &str| FeedIssue::new(feed, m).file("frequencies.txt").line(line).field(field).value(v);
+            let Some(&t) = trip_index.get(&f.trip_id) else {
+                return w.push(issue("trip_id names no trip in trips.txt; row skipped", "trip_id", &f.trip_id));
+            };
+            if f.headway_secs == 0 || f.end_time <= f.start_time {
+                return w.push(issue(
+                    "headway_secs must be positive and end_time after start_time; row skipped",
+                    "headway_secs",
+                    &f.headway_secs.to_string(),
+                ));
+            }
+            if !matches!(f.exact_times.as_deref(), None | Some("") | Some("0") | Some("1")) {
+                return w.push(issue("exact_times must be 0 or 1; row skipped", "exact_times", f.exact_times.as_deref().unwrap_or("")));
+            }
+            frequencies.entry(t).or_default().push(f);
+        },
+    )?;
 
     // stop_times.txt
     stage(progress, "stop_times.txt");
-    read_stop_times(&StopTimesCx { feed, trip_index: &trip_index, stop_index: &stop_index, frequencies: &frequencies }, files, &mut tt, &mut w, progress)?;
+    read_stop_times(
+        &StopTimesCx { feed, trip_index: &trip_index, stop_index: &stop_index, frequencies: &frequencies },
+        files,
+        &mut tt,
+        &mut w,
+        progress,
+    )?;
 
     // transfers.txt
     stage(progress, "transfers.txt");
@@ -394,7 +501,13 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
             T::Timed => TransferRule::Timed,
             T::MinTime => match t.min_transfer_time {
                 Some(m) => TransferRule::MinTime(m),
-                None => return w.push(issue("transfer_type 2 needs min_transfer_time (GTFS Schedule reference); row skipped", "min_transfer_time", "")),
+                None => {
+                    return w.push(issue(
+                        "transfer_type 2 needs min_transfer_time (GTFS Schedule reference); row skipped",
+                        "min_transfer_time",
+                        "",
+                    ))
+                }
             },
             T::Impossible => TransferRule::Forbidden,
             T::StayOnBoard | T::MustAlight => return, // in-seat rules: staying seated is already free
@@ -404,10 +517,17 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
         if ft.is_some() || tt_.is_some() || fr.is_some() || tr.is_some() {
             let end = |trip: Option<String>, route: Option<String>, tf: &str, rf: &str| -> Result<RuleEnd, FeedIssue> {
                 if let Some(id) = trip {
-                    return if trip_index.contains_key(&id) { Ok(RuleEnd::Trip(id)) } else { Err(issue("names no trip in trips.txt; row skipped", tf, &id)) };
+                    return if trip_index.contains_key(&id) {
+                        Ok(RuleEnd::Trip(id))
+                    } else {
+                        Err(issue("names no trip in trips.txt; row skipped", tf, &id))
+                    };
                 }
                 match route {
-                    Some(id) => route_index.get(&id).map(|&r| RuleEnd::Route(r)).ok_or_else(|| issue("names no route in routes.txt; row skipped", rf, &id)),
+                    Some(id) => route_index
+                        .get(&id)
+                        .map(|&r| RuleEnd::Route(r))
+                        .ok_or_else(|| issue("names no route in routes.txt; row skipped", rf, &id)),
                     None => Ok(RuleEnd::Any),
                 }
             };
@@ -426,7 +546,9 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
             }
             return;
         }
-        let (Some(from), Some(to)) = (t.from_stop_id.as_deref().filter(|s| !s.is_empty()), t.to_stop_id.as_deref().filter(|s| !s.is_empty())) else {
+        let (Some(from), Some(to)) =
+            (t.from_stop_id.as_deref().filter(|s| !s.is_empty()), t.to_stop_id.as_deref().filter(|s| !s.is_empty()))
+        else {
             return w.push(issue("from_stop_id and to_stop_id are required for a stop-to-stop transfer; row skipped", "from_stop_id", ""));
         };
         let Some(&a) = stop_index.get(from) else { return w.push(issue("from_stop_id names no stop; row skipped", "from_stop_id", from)) };
@@ -434,7 +556,8 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
         for x in expand(a) {
             for y in expand(b) {
                 if x == y {
-                    stop_rules.push((x, if rule == TransferRule::MinTime(0) && t.transfer_type == T::Recommended { continue } else { rule }));
+                    stop_rules
+                        .push((x, if rule == TransferRule::MinTime(0) && t.transfer_type == T::Recommended { continue } else { rule }));
                 } else if t.transfer_type != T::Recommended {
                     link_rules.push((x, y, rule));
                 }
@@ -453,28 +576,43 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
 
     // pathways.txt
     stage(progress, "pathways.txt");
-    read_table(files, feed, "pathways.txt", &["pathway_id", "from_stop_id", "to_stop_id", "pathway_mode", "is_bidirectional"], &mut w, |line, p: gtfs_structures::RawPathway, w| {
-        let issue = |m: &str, field: &str, v: &str| FeedIssue::new(feed, m).file("pathways.txt").line(line).field(field).value(v);
-        let Some(&from) = stop_index.get(&p.from_stop_id) else { return w.push(issue("from_stop_id names no stop; pathway skipped", "from_stop_id", &p.from_stop_id)) };
-        let Some(&to) = stop_index.get(&p.to_stop_id) else { return w.push(issue("to_stop_id names no stop; pathway skipped", "to_stop_id", &p.to_stop_id)) };
-        for (s, field) in [(from, "from_stop_id"), (to, "to_stop_id")] {
-            if tt.stops[s.idx()].kind == StopKind::Station {
-                return w.push(issue("a pathway cannot start or end at a station (location_type 1, GTFS Schedule reference); pathway skipped", field, &tt.stops[s.idx()].id));
+    read_table(
+        files,
+        feed,
+        "pathways.txt",
+        &["pathway_id", "from_stop_id", "to_stop_id", "pathway_mode", "is_bidirectional"],
+        &mut w,
+        |line, p: gtfs_structures::RawPathway, w| {
+            let issue = |m: &str, field: &str, v: &str| FeedIssue::new(feed, m).file("pathways.txt").line(line).field(field).value(v);
+            let Some(&from) = stop_index.get(&p.from_stop_id) else {
+                return w.push(issue("from_stop_id names no stop; pathway skipped", "from_stop_id", &p.from_stop_id));
+            };
+            let Some(&to) = stop_index.get(&p.to_stop_id) else {
+                return w.push(issue("to_stop_id names no stop; pathway skipped", "to_stop_id", &p.to_stop_id));
+            };
+            for (s, field) in [(from, "from_stop_id"), (to, "to_stop_id")] {
+                if tt.stops[s.idx()].kind == StopKind::Station {
+                    return w.push(issue(
+                        "a pathway cannot start or end at a station (location_type 1, GTFS Schedule reference); pathway skipped",
+                        field,
+                        &tt.stops[s.idx()].id,
+                    ));
+                }
             }
-        }
-        tt.pathways.push(Pathway {
-            id: p.id,
-            from,
-            to,
-            mode: PathwayMode::from_gtfs(p.mode),
-            bidirectional: p.is_bidirectional == gtfs_structures::PathwayDirectionType::Bidirectional,
-            length_m: p.length.filter(|l| l.is_finite() && *l >= 0.0),
-            traversal_time_s: p.traversal_time,
-            stair_count: p.stair_count,
-            max_slope: p.max_slope,
-            min_width_m: p.min_width,
-        });
-    })?;
+            tt.pathways.push(Pathway {
+                id: p.id,
+                from,
+                to,
+                mode: PathwayMode::from_gtfs(p.mode),
+                bidirectional: p.is_bidirectional == gtfs_structures::PathwayDirectionType::Bidirectional,
+                length_m: p.length.filter(|l| l.is_finite() && *l >= 0.0),
+                traversal_time_s: p.traversal_time,
+                stair_count: p.stair_count,
+                max_slope: p.max_slope,
+                min_width_m: p.min_width,
+            });
+        },
+    )?;
 
     // feed_info.txt: the feed's validity dates.
     stage(progress, "feed_info.txt");
@@ -488,11 +626,18 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
     // shapes.txt: kept simplified, only for drawing.
     stage(progress, "shapes.txt");
     let mut shape_points: Vec<Vec<(usize, [f32; 2])>> = vec![Vec::new(); shape_ids.len()];
-    read_table(files, feed, "shapes.txt", &["shape_id", "shape_pt_lat", "shape_pt_lon", "shape_pt_sequence"], &mut w, |_, s: gtfs_structures::Shape, _| {
-        if let Some(&i) = shape_ids.get(&s.id) {
-            shape_points[i as usize].push((s.sequence, [s.latitude as f32, s.longitude as f32]));
-        }
-    })?;
+    read_table(
+        files,
+        feed,
+        "shapes.txt",
+        &["shape_id", "shape_pt_lat", "shape_pt_lon", "shape_pt_sequence"],
+        &mut w,
+        |_, s: gtfs_structures::Shape, _| {
+            if let Some(&i) = shape_ids.get(&s.id) {
+                shape_points[i as usize].push((s.sequence, [s.latitude as f32, s.longitude as f32]));
+            }
+        },
+    )?;
     tt.shapes = shape_points.into_iter().map(simplify_shape).collect();
 
     tt.feeds.push(FeedMeta {
@@ -601,7 +746,13 @@ struct StopTimesCx<'a> {
 /// the rows come, holding one trip's rows at a time. If a trip's rows turn up again after another
 /// trip's, that pass is undone (events, trips and its warnings) and a second pass holds all rows
 /// and sorts them by trip.
-fn read_stop_times(cx: &StopTimesCx, files: &mut FeedFiles<'_>, tt: &mut Timetable, w: &mut WarningLog, progress: Progress) -> Result<(), FeedIssue> {
+fn read_stop_times(
+    cx: &StopTimesCx,
+    files: &mut FeedFiles<'_>,
+    tt: &mut Timetable,
+    w: &mut WarningLog,
+    progress: Progress,
+) -> Result<(), FeedIssue> {
     let mut trips = TripBuilder::new(std::mem::take(&mut tt.trips));
     let (events, kept, total) = (tt.ev_stop.len(), w.issues.len(), w.total);
     if !scan_stop_times(cx, files, w, progress, |r, w| trips.push(cx, tt, w, r))? {
@@ -629,13 +780,21 @@ fn read_stop_times(cx: &StopTimesCx, files: &mut FeedFiles<'_>, tt: &mut Timetab
 
 /// Reads the rows of stop_times.txt, handing each usable one to `row` until it returns false.
 /// Returns whether every row was handed over. Bad rows become located warnings and are skipped.
-fn scan_stop_times(cx: &StopTimesCx, files: &mut FeedFiles<'_>, w: &mut WarningLog, progress: Progress, mut row: impl FnMut(StopTimeRow, &mut WarningLog) -> bool) -> Result<bool, FeedIssue> {
+fn scan_stop_times(
+    cx: &StopTimesCx,
+    files: &mut FeedFiles<'_>,
+    w: &mut WarningLog,
+    progress: Progress,
+    mut row: impl FnMut(StopTimeRow, &mut WarningLog) -> bool,
+) -> Result<bool, FeedIssue> {
     const FILE: &str = "stop_times.txt";
     let feed = cx.feed;
     let reader = files.open(feed, FILE)?.ok_or_else(|| FeedIssue::new(feed, "required file is missing").file(FILE))?;
     let mut rdr = table::csv_reader(reader);
     let headers = {
-        let h = rdr.byte_headers().map_err(|e| FeedIssue::new(feed, format!("unreadable header: {}", table::csv_message(&e))).file(FILE).line(1))?;
+        let h = rdr
+            .byte_headers()
+            .map_err(|e| FeedIssue::new(feed, format!("unreadable header: {}", table::csv_message(&e))).file(FILE).line(1))?;
         let strings: Vec<String> = h.iter().map(|c| String::from_utf8_lossy(c).trim_start_matches('\u{feff}').trim().to_string()).collect();
         strings
     };
@@ -649,7 +808,9 @@ fn scan_stop_times(cx: &StopTimesCx, files: &mut FeedFiles<'_>, w: &mut WarningL
     let mut rows = 0usize;
     // Consecutive rows mostly share a trip: the last trip_id found, and its trip.
     let mut last_trip: (Vec<u8>, Option<TripIdx>) = (Vec::new(), None);
-    let issue = |m: String, line: u64, field: &str, v: &[u8]| FeedIssue::new(feed, m).file(FILE).line(line).field(field).value(&String::from_utf8_lossy(v));
+    let issue = |m: String, line: u64, field: &str, v: &[u8]| {
+        FeedIssue::new(feed, m).file(FILE).line(line).field(field).value(&String::from_utf8_lossy(v))
+    };
     loop {
         match rdr.read_byte_record(&mut rec) {
             Ok(false) => return Ok(true),
@@ -665,7 +826,7 @@ fn scan_stop_times(cx: &StopTimesCx, files: &mut FeedFiles<'_>, w: &mut WarningL
         }
         let line = rec.position().map(|p| p.line()).unwrap_or(0);
         rows += 1;
-        if rows % 65536 == 0 {
+        if rows.is_multiple_of(65536) {
             progress("parsing stop_times.txt", 0.17);
         }
         let get = |c: usize| rec.get(c).unwrap_or(b"").trim_ascii();
@@ -673,7 +834,10 @@ fn scan_stop_times(cx: &StopTimesCx, files: &mut FeedFiles<'_>, w: &mut WarningL
         let trip = if last_trip.1.is_some() && last_trip.0 == get(c_trip) {
             last_trip.1
         } else {
-            let Some(trip_id) = text(c_trip) else { w.push(issue("not valid UTF-8; row skipped".into(), line, "trip_id", get(c_trip))); continue };
+            let Some(trip_id) = text(c_trip) else {
+                w.push(issue("not valid UTF-8; row skipped".into(), line, "trip_id", get(c_trip)));
+                continue;
+            };
             let found = cx.trip_index.get(trip_id).copied();
             if found.is_some() {
                 last_trip = (trip_id.as_bytes().to_vec(), found);
@@ -703,11 +867,21 @@ fn scan_stop_times(cx: &StopTimesCx, files: &mut FeedFiles<'_>, w: &mut WarningL
         let (arr, dep) = match (time(c_arr), time(c_dep)) {
             (Ok(a), Ok(d)) => (a, d),
             (Err(()), _) => {
-                w.push(issue("arrival_time is not a time H:MM:SS (minutes and seconds below 60); row skipped".into(), line, "arrival_time", get(c_arr)));
+                w.push(issue(
+                    "arrival_time is not a time H:MM:SS (minutes and seconds below 60); row skipped".into(),
+                    line,
+                    "arrival_time",
+                    get(c_arr),
+                ));
                 continue;
             }
             (_, Err(())) => {
-                w.push(issue("departure_time is not a time H:MM:SS (minutes and seconds below 60); row skipped".into(), line, "departure_time", get(c_dep)));
+                w.push(issue(
+                    "departure_time is not a time H:MM:SS (minutes and seconds below 60); row skipped".into(),
+                    line,
+                    "departure_time",
+                    get(c_dep),
+                ));
                 continue;
             }
         };
@@ -772,7 +946,13 @@ impl TripBuilder {
             let twice = prev == Some(r.seq);
             prev = Some(r.seq);
             if twice {
-                w.push(FeedIssue::new(cx.feed, format!("stop_sequence {} appears twice in trip {}; the later row is skipped", r.seq, trip.id)).file(FILE).line(r.line as u64).field("stop_sequence").value(&r.seq.to_string()));
+                w.push(
+                    FeedIssue::new(cx.feed, format!("stop_sequence {} appears twice in trip {}; the later row is skipped", r.seq, trip.id))
+                        .file(FILE)
+                        .line(r.line as u64)
+                        .field("stop_sequence")
+                        .value(&r.seq.to_string()),
+                );
             }
             !twice
         });
@@ -812,7 +992,9 @@ impl TripBuilder {
         self.flush(cx, tt, w);
         let no_times = self.done.iter().filter(|seen| !**seen).count();
         if no_times > 0 {
-            w.push(FeedIssue::new(cx.feed, format!("{no_times} trips have no usable stop_times rows and are left out")).file("stop_times.txt"));
+            w.push(
+                FeedIssue::new(cx.feed, format!("{no_times} trips have no usable stop_times rows and are left out")).file("stop_times.txt"),
+            );
         }
         tt.trips = self.out;
     }
@@ -835,7 +1017,11 @@ fn push_trip(tt: &mut Timetable, out: &mut Vec<Trip>, mut trip: Trip, group: &[S
 fn check_and_interpolate(feed: &str, tt: &Timetable, trip_id: &str, g: &mut [StopTimeRow]) -> Result<(), FeedIssue> {
     const FILE: &str = "stop_times.txt";
     if g.len() < 2 {
-        return Err(FeedIssue::new(feed, format!("trip {trip_id} has fewer than two stops; trip left out")).file(FILE).line(g.first().map_or(0, |r| r.line as u64)).field("trip_id").value(trip_id));
+        return Err(FeedIssue::new(feed, format!("trip {trip_id} has fewer than two stops; trip left out"))
+            .file(FILE)
+            .line(g.first().map_or(0, |r| r.line as u64))
+            .field("trip_id")
+            .value(trip_id));
     }
     for r in [g[0], g[g.len() - 1]] {
         if r.arr == NO_TIME {
@@ -875,13 +1061,27 @@ fn check_and_interpolate(feed: &str, tt: &Timetable, trip_id: &str, g: &mut [Sto
     }
     for j in 0..g.len() {
         if g[j].dep < g[j].arr {
-            return Err(FeedIssue::new(feed, format!("trip {trip_id} departs stop {} before it arrives there; trip left out", tt.stops[g[j].stop as usize].id)).file(FILE).line(g[j].line as u64).field("departure_time"));
+            return Err(FeedIssue::new(
+                feed,
+                format!("trip {trip_id} departs stop {} before it arrives there; trip left out", tt.stops[g[j].stop as usize].id),
+            )
+            .file(FILE)
+            .line(g[j].line as u64)
+            .field("departure_time"));
         }
         if j > 0 && g[j].arr < g[j - 1].dep {
-            return Err(FeedIssue::new(feed, format!(
-                "trip {trip_id} arrives at stop {} at {} before it left the previous stop at {}; trip left out",
-                tt.stops[g[j].stop as usize].id, hms(g[j].arr), hms(g[j - 1].dep)
-            )).file(FILE).line(g[j].line as u64).field("arrival_time"));
+            return Err(FeedIssue::new(
+                feed,
+                format!(
+                    "trip {trip_id} arrives at stop {} at {} before it left the previous stop at {}; trip left out",
+                    tt.stops[g[j].stop as usize].id,
+                    hms(g[j].arr),
+                    hms(g[j - 1].dep)
+                ),
+            )
+            .file(FILE)
+            .line(g[j].line as u64)
+            .field("arrival_time"));
         }
     }
     Ok(())

@@ -26,7 +26,13 @@ pub fn clean_headers(feed: &str, file: &str, h: Result<&csv::StringRecord, csv::
 pub fn require_columns(feed: &str, file: &str, headers: &[String], required: &[&str]) -> Result<(), FeedIssue> {
     for col in required {
         if !headers.iter().any(|h| h == col) {
-            return Err(FeedIssue::new(feed, format!("required column {col} is missing (GTFS Schedule reference); the header has: {}", headers.join(","))).file(file).line(1).field(col));
+            return Err(FeedIssue::new(
+                feed,
+                format!("required column {col} is missing (GTFS Schedule reference); the header has: {}", headers.join(",")),
+            )
+            .file(file)
+            .line(1)
+            .field(col));
         }
     }
     Ok(())
@@ -42,11 +48,39 @@ pub fn csv_message(e: &csv::Error) -> String {
 
 /// Columns whose GTFS type is a number (Float, Integer, Non-negative integer or Enum).
 const NUMERIC_COLUMNS: &[&str] = &[
-    "stop_lat", "stop_lon", "location_type", "wheelchair_boarding", "route_type", "route_sort_order", "direction_id",
-    "wheelchair_accessible", "bikes_allowed", "pathway_mode", "is_bidirectional", "length", "traversal_time",
-    "stair_count", "max_slope", "min_width", "level_index", "shape_pt_lat", "shape_pt_lon", "shape_pt_sequence",
-    "shape_dist_traveled", "transfer_type", "min_transfer_time", "headway_secs", "exact_times", "exception_type",
-    "monday", "tuesday", "wednesday", "thursday", "friday", "saturday", "sunday",
+    "stop_lat",
+    "stop_lon",
+    "location_type",
+    "wheelchair_boarding",
+    "route_type",
+    "route_sort_order",
+    "direction_id",
+    "wheelchair_accessible",
+    "bikes_allowed",
+    "pathway_mode",
+    "is_bidirectional",
+    "length",
+    "traversal_time",
+    "stair_count",
+    "max_slope",
+    "min_width",
+    "level_index",
+    "shape_pt_lat",
+    "shape_pt_lon",
+    "shape_pt_sequence",
+    "shape_dist_traveled",
+    "transfer_type",
+    "min_transfer_time",
+    "headway_secs",
+    "exact_times",
+    "exception_type",
+    "monday",
+    "tuesday",
+    "wednesday",
+    "thursday",
+    "friday",
+    "saturday",
+    "sunday",
 ];
 
 /// Enumerated columns and their values in the GTFS Schedule reference.
@@ -125,9 +159,18 @@ pub fn read_table<T: DeserializeOwned>(
                 if short {
                     issue.message = format!("row has {} fields but the header has {}; {}", rec.len(), headers.len(), issue.message);
                 }
-                let field = field.or(if short { Some(rec.len()) } else { None }).or_else(|| headers.iter().enumerate().position(|(i, h)| NUMERIC_COLUMNS.contains(&h.as_str()) && rec.get(i).is_some_and(|v| !v.is_empty() && v.parse::<f64>().is_err()))).or_else(|| {
-                    headers.iter().enumerate().position(|(i, h)| ENUM_COLUMNS.iter().any(|(c, ok)| c == h && rec.get(i).is_some_and(|v| !v.is_empty() && !ok.contains(&v))))
-                });
+                let field = field
+                    .or(if short { Some(rec.len()) } else { None })
+                    .or_else(|| {
+                        headers.iter().enumerate().position(|(i, h)| {
+                            NUMERIC_COLUMNS.contains(&h.as_str()) && rec.get(i).is_some_and(|v| !v.is_empty() && v.parse::<f64>().is_err())
+                        })
+                    })
+                    .or_else(|| {
+                        headers.iter().enumerate().position(|(i, h)| {
+                            ENUM_COLUMNS.iter().any(|(c, ok)| c == h && rec.get(i).is_some_and(|v| !v.is_empty() && !ok.contains(&v)))
+                        })
+                    });
                 if let Some(i) = field {
                     if let Some(name) = headers.get(i) {
                         issue = issue.field(name);

@@ -23,8 +23,10 @@ use chrono::{Duration, NaiveDate};
 use chrono_tz::Tz;
 
 pub mod csr;
+mod nodes;
 mod patterns;
 
+pub use nodes::{Node, NodeIds};
 pub use patterns::Patterns;
 
 use crate::timetable::calendar::{day_origin, origin_offset_s};
@@ -107,7 +109,19 @@ pub struct Network {
 impl Network {
     pub fn build(tt: &Timetable, date: NaiveDate) -> Network {
         let tz = tt.feeds.first().map(|f| f.timezone).unwrap_or(chrono_tz::UTC);
-        let mut net = Network { id: next_id(), date, tz, instances: Vec::new(), events: Vec::new(), stop_first: Vec::new(), by_stop: Vec::new(), by_stop_dep: Vec::new(), trips_today: 0, rides_by_time: Default::default(), patterns: Default::default() };
+        let mut net = Network {
+            id: next_id(),
+            date,
+            tz,
+            instances: Vec::new(),
+            events: Vec::new(),
+            stop_first: Vec::new(),
+            by_stop: Vec::new(),
+            by_stop_dep: Vec::new(),
+            trips_today: 0,
+            rides_by_time: Default::default(),
+            patterns: Default::default(),
+        };
         let days = [date - Duration::days(1), date, date + Duration::days(1)];
         // Per feed and day: offset of that service day's origin, and which services run.
         let mut runs: Vec<[bool; 3]> = vec![[false; 3]; tt.services.len()];
@@ -154,7 +168,9 @@ impl Network {
                         f |= LAST_OF_TRIP;
                     }
                     f |= step_free_bits(trip.wheelchair, stops_access(e));
-                    if !tt.specific_rules.is_empty() && tt.rules_at(tt.ev_stop[e]).iter().any(|r| r.from.matches(tt, TripIdx(ti as u32)).is_some()) {
+                    if !tt.specific_rules.is_empty()
+                        && tt.rules_at(tt.ev_stop[e]).iter().any(|r| r.from.matches(tt, TripIdx(ti as u32)).is_some())
+                    {
                         f |= HAS_RULES;
                     }
                     net.events.push(Event { dep, stop: tt.ev_stop[e], dwell, flags: f });
@@ -292,7 +308,12 @@ impl Network {
 
     /// Bytes held by the graph arrays (with the sweep order once built).
     pub fn bytes(&self) -> usize {
-        self.events.capacity() * std::mem::size_of::<Event>() + self.by_stop.capacity() * 4 + self.by_stop_dep.capacity() * 4 + self.stop_first.capacity() * 4 + self.instances.capacity() * std::mem::size_of::<Instance>() + self.rides_by_time.get().map_or(0, |o| o.capacity() * 4)
+        self.events.capacity() * std::mem::size_of::<Event>()
+            + self.by_stop.capacity() * 4
+            + self.by_stop_dep.capacity() * 4
+            + self.stop_first.capacity() * 4
+            + self.instances.capacity() * std::mem::size_of::<Instance>()
+            + self.rides_by_time.get().map_or(0, |o| o.capacity() * 4)
     }
 
     /// The instant of the timeline's origin.
@@ -323,7 +344,19 @@ mod tests {
             by_stop_dep.extend(d);
             stop_first.push(by_stop_dep.len() as u32);
         }
-        Network { id: 0, date: NaiveDate::MIN, tz: chrono_tz::UTC, instances: vec![], events: vec![], stop_first, by_stop: vec![], by_stop_dep, trips_today: 0, rides_by_time: Default::default(), patterns: Default::default() }
+        Network {
+            id: 0,
+            date: NaiveDate::MIN,
+            tz: chrono_tz::UTC,
+            instances: vec![],
+            events: vec![],
+            stop_first,
+            by_stop: vec![],
+            by_stop_dep,
+            trips_today: 0,
+            rides_by_time: Default::default(),
+            patterns: Default::default(),
+        }
     }
 
     proptest! {

@@ -63,4 +63,3 @@ impl Patterns {
         (self.first.capacity() + self.at_first.capacity()) * 4 + self.stops.capacity() * 4 + self.at.capacity() * 8
     }
 }
-

@@ -197,7 +197,10 @@ impl Builder<'_> {
     fn stop_check(&self, s: StopIdx, role: StopRole) -> (Access, Fact) {
         let st = self.tt.stop(s);
         let inherited_from = if st.wheelchair_inherited { self.tt.station_name(s).map(str::to_string) } else { None };
-        (st.wheelchair, Fact::Stop { role, stop_id: st.id.clone(), name: st.name.clone(), wheelchair_boarding: st.wheelchair, inherited_from })
+        (
+            st.wheelchair,
+            Fact::Stop { role, stop_id: st.id.clone(), name: st.name.clone(), wheelchair_boarding: st.wheelchair, inherited_from },
+        )
     }
 
     fn walk_leg(&self, from: StopIdx, to: StopIdx, f: Option<&Footpath>, depart_s: u32, d: u32) -> Leg {
@@ -216,7 +219,12 @@ impl Builder<'_> {
                 let (a, finding) = pathway_access(self.tt, step.pathway, self.walk_cfg);
                 status.add(a, Fact::Pathway { pathway_id: pw.id.clone(), pathway_mode: pw.mode.name().into(), finding });
                 let (x, y) = if step.reversed { (pw.to, pw.from) } else { (pw.from, pw.to) };
-                path.push(PathwayStep { pathway_id: pw.id.clone(), pathway_mode: pw.mode.name().into(), from: self.tt.stop(x).name.clone(), to: self.tt.stop(y).name.clone() });
+                path.push(PathwayStep {
+                    pathway_id: pw.id.clone(),
+                    pathway_mode: pw.mode.name().into(),
+                    from: self.tt.stop(x).name.clone(),
+                    to: self.tt.stop(y).name.clone(),
+                });
             }
             for s in [from, to] {
                 if self.tt.stop(s).kind == StopKind::Entrance {
@@ -265,7 +273,14 @@ impl Builder<'_> {
             status.add(a, fact);
         }
         let calls = (board as usize + 1..alight)
-            .map(|e| Call { stop_id: tt.stop(net.stop(e)).id.clone(), name: tt.stop(net.stop(e)).name.clone(), arrive_s: net.arr(e), depart_s: net.dep(e), arrive: self.clock(net.arr(e)), depart: self.clock(net.dep(e)) })
+            .map(|e| Call {
+                stop_id: tt.stop(net.stop(e)).id.clone(),
+                name: tt.stop(net.stop(e)).name.clone(),
+                arrive_s: net.arr(e),
+                depart_s: net.dep(e),
+                arrive: self.clock(net.arr(e)),
+                depart: self.clock(net.dep(e)),
+            })
             .collect();
         let (d, a) = (net.dep(board as usize), net.arr(alight));
         Leg {
@@ -328,7 +343,13 @@ impl Builder<'_> {
                     // Access: from the nearest origin to the first boarding stop.
                     if !self.ends.origins.contains(&s) {
                         let d = access_walk_s(self.tt, self.ends, s, self.params).unwrap_or(0);
-                        let o = self.ends.origins.iter().copied().filter(|&o| self.footpath(o, s).is_some_and(|x| x.1 == d)).next().unwrap_or(self.ends.origins[0]);
+                        let o = self
+                            .ends
+                            .origins
+                            .iter()
+                            .copied()
+                            .find(|&o| self.footpath(o, s).is_some_and(|x| x.1 == d))
+                            .unwrap_or(self.ends.origins[0]);
                         let leave = net.dep(board as usize).saturating_sub(d).max(self.query_s);
                         legs.push(self.walk_leg(o, s, self.footpath(o, s).map(|x| x.0), leave, d));
                         t = leave + d;
@@ -353,7 +374,13 @@ impl Builder<'_> {
         }
         if let Some(v) = at {
             if !self.ends.targets.contains(&v) {
-                let best = self.ends.targets.iter().filter_map(|&tg| self.footpath(v, tg).map(|(f, d)| (d, tg, *f))).filter(|x| x.2.length_m as f64 <= self.params.max_walk_m).min_by_key(|x| x.0);
+                let best = self
+                    .ends
+                    .targets
+                    .iter()
+                    .filter_map(|&tg| self.footpath(v, tg).map(|(f, d)| (d, tg, *f)))
+                    .filter(|x| x.2.length_m as f64 <= self.params.max_walk_m)
+                    .min_by_key(|x| x.0);
                 if let Some((d, tg, f)) = best {
                     legs.push(self.walk_leg(v, tg, Some(&f), t, d));
                 }

@@ -17,8 +17,8 @@
 //! (each is `x ≤ y` or `x ≤ y + 1`, and both survive `min(·, c)`).
 //! Added to the landmark bound on the rest of the cost, the sum stays consistent.
 
-use crate::route::bounds::WalkLinks;
 use crate::graph::{Network, Patterns, LAST_OF_TRIP};
+use crate::route::bounds::WalkLinks;
 use crate::timetable::StopIdx;
 
 /// Waiting counts boardings exactly up to here (more are bounded by `CAP + 1`), alighting up to

@@ -29,8 +29,8 @@
 //! it. So A* keys never decrease, the radix heap stays valid, and every node the search settles
 //! carries its exact Dijkstra cost.
 
-
 use crate::graph::{csr, Network, LAST_OF_TRIP};
+use crate::route::query::{weighted_walk_s, Endpoints};
 use crate::route::radix_heap::RadixHeap;
 use crate::timetable::{StopIdx, Timetable, WalkProfile};
 
@@ -96,7 +96,7 @@ impl WalkLinks {
             for f in set.from(StopIdx(s as u32)) {
                 if f.length_m as f64 <= key.max_walk_m {
                     let walk_s = f.duration_s(key.speed_mps);
-                    let cost_s = if key.weight == 1.0 { walk_s } else { (walk_s as f64 * key.weight).round() as u32 };
+                    let cost_s = weighted_walk_s(walk_s, key.weight);
                     out.links.push(Link { to: f.to, walk_s, cost_s });
                 }
             }
@@ -105,7 +105,11 @@ impl WalkLinks {
         }
         let n = tt.stops.len();
         let first = &out.first;
-        let ending = (0..n).flat_map(|s| out.links[first[s] as usize..first[s + 1] as usize].iter().map(move |l| (l.to.0, InLink { from: StopIdx(s as u32), cost_s: l.cost_s })));
+        let ending = (0..n).flat_map(|s| {
+            out.links[first[s] as usize..first[s + 1] as usize]
+                .iter()
+                .map(move |l| (l.to.0, InLink { from: StopIdx(s as u32), cost_s: l.cost_s }))
+        });
         (out.ending_first, out.ending) = csr::group(n, ending);
         out
     }
@@ -122,7 +126,9 @@ impl WalkLinks {
     }
 
     pub fn bytes(&self) -> usize {
-        (self.first.capacity() + self.ending_first.capacity()) * 4 + self.links.capacity() * std::mem::size_of::<Link>() + self.ending.capacity() * std::mem::size_of::<InLink>()
+        (self.first.capacity() + self.ending_first.capacity()) * 4
+            + self.links.capacity() * std::mem::size_of::<Link>()
+            + self.ending.capacity() * std::mem::size_of::<InLink>()
     }
 }
 
@@ -227,7 +233,9 @@ impl Landmarks {
     }
 
     pub fn bytes(&self) -> usize {
-        self.rows.capacity() * std::mem::size_of::<[u32; 2 * LANDMARKS]>() + self.reversed.first.capacity() * 4 + self.reversed.edges.capacity() * 8
+        self.rows.capacity() * std::mem::size_of::<[u32; 2 * LANDMARKS]>()
+            + self.reversed.first.capacity() * 4
+            + self.reversed.edges.capacity() * 8
     }
 
     /// Exact stop-graph costs to the nearest target, by A* on the reversed stop graph towards the
@@ -236,7 +244,16 @@ impl Landmarks {
     /// stop not put has `d(s) ≥ K − potential(s)` (A* settles in key order), every stop put has
     /// `d(s) ≤ K − potential(s)`, so `max(K − potential(s), landmark bound)` bounds the others and
     /// the bound made of both stays consistent. `UNREACHABLE` when an origin cannot reach a target.
-    pub fn exact_near(&self, targets: &[StopIdx], origins: &[StopIdx], heap: &mut RadixHeap, tentative: &mut [Tentative], stamp: u32, potential: impl Fn(usize) -> u32, mut put: impl FnMut(usize, u32)) -> u32 {
+    /// `tentative` is the per-stop state with the stamp of this search.
+    pub fn exact_near(
+        &self,
+        ends: &Endpoints,
+        heap: &mut RadixHeap,
+        (tentative, stamp): (&mut [Tentative], u32),
+        potential: impl Fn(usize) -> u32,
+        mut put: impl FnMut(usize, u32),
+    ) -> u32 {
+        let (targets, origins) = (&ends.targets[..], &ends.origins[..]);
         let g = &self.reversed;
         heap.clear();
         for &t in targets {

@@ -45,4 +45,3 @@ pub(crate) fn event_ok(net: &Network, mask: u8, e: usize) -> bool {
 pub(crate) fn flags_ok(flags: u8, mask: u8) -> bool {
     mask == 0 || flags & mask != 0
 }
-

@@ -71,7 +71,13 @@ impl Params {
     }
     /// What the prepared walking data of this setting on `net` are filed under.
     pub fn walk_key(&self, net: &Network) -> WalkKey {
-        WalkKey { network: net.id, profile: self.step_free.walk_profile(), speed_mps: self.walk_speed_mps, max_walk_m: self.max_walk_m, weight: self.walk_weight }
+        WalkKey {
+            network: net.id,
+            profile: self.step_free.walk_profile(),
+            speed_mps: self.walk_speed_mps,
+            max_walk_m: self.max_walk_m,
+            weight: self.walk_weight,
+        }
     }
     pub fn transfer_s(&self) -> u32 {
         self.min_transfer_s + if self.step_free == StepFree::Off { 0 } else { self.step_free_extra_transfer_s }
@@ -105,3 +111,13 @@ pub struct Journey {
     pub direct_walk: Option<(StopIdx, StopIdx, u32)>,
 }
 
+/// Walking seconds as they count in the cost: times the walk weight, rounded to the second
+/// (exactly `walk_s` at weight 1).
+#[inline]
+pub fn weighted_walk_s(walk_s: u32, weight: f64) -> u32 {
+    if weight == 1.0 {
+        walk_s
+    } else {
+        (walk_s as f64 * weight).round() as u32
+    }
+}

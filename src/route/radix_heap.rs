@@ -96,7 +96,7 @@ mod tests {
             x ^= x << 13;
             x ^= x >> 7;
             x ^= x << 17;
-            if x % 3 != 0 || reference.is_empty() {
+            if !x.is_multiple_of(3) || reference.is_empty() {
                 let key = last + (x % 5000) as u32;
                 h.push(key, round);
                 reference.push(std::cmp::Reverse(key));

@@ -16,11 +16,12 @@
 //! first search with a new walking setting (its prepared links and tables); buffers are reused
 //! and reset by generation stamps.
 
+pub use crate::graph::Node;
+use crate::graph::{Network, NodeIds, HAS_RULES, LAST_OF_TRIP};
 use crate::route::boardings::Boardings;
-use crate::route::bounds::{Active, Anchor, Landmarks, EXACT_ACTIVE, Prepared, Tentative, WalkKey, WalkLinks, UNREACHABLE};
-use crate::graph::{Network, HAS_RULES, LAST_OF_TRIP};
+use crate::route::bounds::{Active, Anchor, Landmarks, Prepared, Tentative, WalkKey, WalkLinks, EXACT_ACTIVE, UNREACHABLE};
 use crate::route::edges::{event_ok, rule_boardings};
-pub use crate::route::query::{Endpoints, Journey, Params, StepFree};
+pub use crate::route::query::{weighted_walk_s, Endpoints, Journey, Params, StepFree};
 use crate::route::radix_heap::RadixHeap;
 use crate::route::sweep::{self, SweepBuffers};
 use crate::timetable::{StopIdx, Timetable, NO_DROP_OFF, NO_PICKUP};
@@ -40,13 +41,13 @@ pub struct SearchState {
     entries: Vec<Entry>,
     stop_arrival: Vec<u32>,
     prune: bool,
-    /// Nodes per layer (2 × events + sink + spare).
-    layer_nodes: u32,
+    /// The node id layout of the network searched last.
+    ids: NodeIds,
     layers: u32,
     /// Cost of the best sink label so far: nodes whose key exceeds it are not pushed.
     best: u32,
     /// Walking links and landmark tables per walking setting, most recently used last.
-    prepared: Vec<Box<Prepared>>,
+    prepared: Vec<Prepared>,
     /// Per stop: (bound generation, bound to the target). The bounds depend only on the target,
     /// the landmarks chosen and the walking setting, so successive searches for the same pair
     /// (the next options) reuse them.
@@ -124,10 +125,9 @@ impl SearchState {
     }
 
     fn reset(&mut self, net: &Network, stops: usize, layers: u32) {
-        let e = net.events() as u32;
-        self.layer_nodes = 2 * e + 1;
+        self.ids = NodeIds::of(net);
         self.layers = layers;
-        let total = (self.layer_nodes * layers) as usize;
+        let total = (self.ids.per_layer() * layers) as usize;
         if self.labels.len() < total {
             self.labels.resize(total, Label { stamp: 0, cost: u32::MAX, pred: NO_PRED });
         }
@@ -153,17 +153,17 @@ impl SearchState {
 
     /// The prepared data for `key`, built when missing (links always; landmarks when `goal`).
     /// The caller hands it back with [`SearchState::give_back`].
-    pub(crate) fn take_prepared(&mut self, tt: &Timetable, net: &Network, key: WalkKey, goal: bool) -> Box<Prepared> {
+    pub(crate) fn take_prepared(&mut self, tt: &Timetable, net: &Network, key: WalkKey, goal: bool) -> Prepared {
         let mut prep = match self.prepared.iter().position(|p| p.key == key) {
             Some(i) => self.prepared.remove(i),
-            None => Box::new(Prepared { key, walk: WalkLinks::build(tt, &key), landmarks: None }),
+            None => Prepared { key, walk: WalkLinks::build(tt, &key), landmarks: None },
         };
         if goal && prep.landmarks.is_none() {
             prep.landmarks = Some(Landmarks::build(tt, net, &prep.walk));
         }
         prep
     }
-    pub(crate) fn give_back(&mut self, prep: Box<Prepared>) {
+    pub(crate) fn give_back(&mut self, prep: Prepared) {
         if self.prepared.len() >= PREPARED_KEPT {
             self.prepared.remove(0);
         }
@@ -174,7 +174,9 @@ impl SearchState {
     /// landmarks and walking setting.
     /// True when it did.
     fn use_bounds_for(&mut self, key: WalkKey, ends: &Endpoints, act: Active) -> bool {
-        let same = |t: &[StopIdx]| t.len() == ends.targets.len() + ends.origins.len() && t.starts_with(&ends.targets) && t.ends_with(&ends.origins);
+        let same = |t: &[StopIdx]| {
+            t.len() == ends.targets.len() + ends.origins.len() && t.starts_with(&ends.targets) && t.ends_with(&ends.origins)
+        };
         if self.bound_for.as_ref().is_some_and(|(k, t, a)| *k == key && same(t) && *a == act) {
             return false;
         }
@@ -209,7 +211,7 @@ impl SearchState {
         }
     }
     pub fn sink(&self, layer: u32) -> u32 {
-        layer * self.layer_nodes + self.layer_nodes - 1
+        self.ids.sink(layer)
     }
     /// Earliest arrival per stop after a one-to-all search (sweep or `run_all`).
     pub fn stop_arrivals(&self) -> &[u32] {
@@ -252,26 +254,9 @@ enum Goal {
     All,
 }
 
-/// Node kinds in one layer of `2E + 1` nodes.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Node {
-    Wait(u32),
-    Ride(u32),
-    Sink,
-}
-
+/// The layer of `node` and what it stands for ([`NodeIds::decode`] on `net`'s layout).
 pub fn decode(net: &Network, node: u32) -> (u32, Node) {
-    let e = net.events() as u32;
-    let per = 2 * e + 1;
-    let (layer, local) = (node / per, node % per);
-    let kind = if local < e {
-        Node::Wait(local)
-    } else if local < 2 * e {
-        Node::Ride(local - e)
-    } else {
-        Node::Sink
-    };
-    (layer, kind)
+    NodeIds::of(net).decode(node)
 }
 
 /// Time of a graph node on the network's timeline.
@@ -283,20 +268,53 @@ pub fn node_time(net: &Network, node: u32) -> Option<u32> {
     }
 }
 
+/// One search's fixed inputs and what follows from them, read by every step: the query context.
 struct Ctx<'a> {
+    tt: &'a Timetable,
     net: &'a Network,
+    ends: &'a Endpoints,
     p: &'a Params,
+    /// Walking links at the query's walking setting.
+    walk: &'a WalkLinks,
+    ids: NodeIds,
+    depart_s: u32,
+    /// Layers of the graph searched (1, or one per number of rides for the fewest-rides set).
+    layers: u32,
     mask: u8,
     horizon: u32,
     goal: Goal,
-    e: u32,
     /// Landmark tables, and the landmarks chosen for this query, when it is goal-directed.
     landmarks: Option<(&'a Landmarks, Active)>,
 }
 
+/// What a search is asked: where, when, how, and how many layers.
+#[derive(Clone, Copy)]
+struct Query<'a> {
+    tt: &'a Timetable,
+    net: &'a Network,
+    ends: &'a Endpoints,
+    depart_s: u32,
+    p: &'a Params,
+    layers: u32,
+    goal: Goal,
+}
+
 impl<'a> Ctx<'a> {
-    fn new(net: &'a Network, p: &'a Params, depart_s: u32, goal: Goal, landmarks: Option<(&'a Landmarks, Active)>) -> Self {
-        Ctx { net, p, mask: p.step_free.event_mask(), horizon: depart_s.saturating_add(p.max_duration_s), goal, e: net.events() as u32, landmarks }
+    fn new(q: Query<'a>, walk: &'a WalkLinks, landmarks: Option<(&'a Landmarks, Active)>) -> Self {
+        Ctx {
+            tt: q.tt,
+            net: q.net,
+            ends: q.ends,
+            p: q.p,
+            walk,
+            ids: NodeIds::of(q.net),
+            depart_s: q.depart_s,
+            layers: q.layers,
+            mask: q.p.step_free.event_mask(),
+            horizon: q.depart_s.saturating_add(q.p.max_duration_s),
+            goal: q.goal,
+            landmarks,
+        }
     }
 
     /// The record of stop `s` in this search, made fresh (with its bound) on first touch.
@@ -365,8 +383,8 @@ impl<'a> Ctx<'a> {
 
     /// Enters the waiting chain of `s` at the first departure at or after `t`.
     #[inline]
-    fn enter(&self, st: &mut SearchState, layer_base: u32, s: StopIdx, t: u32, cost: u32, pred: u32) {
-        if let Some(x) = self.entry(st, layer_base, s, t, cost, pred) {
+    fn enter(&self, st: &mut SearchState, layer: u32, s: StopIdx, t: u32, cost: u32, pred: u32) {
+        if let Some(x) = self.entry(st, layer, s, t, cost, pred) {
             st.relax(x.node, x.cost, x.h, x.pred);
         }
     }
@@ -375,7 +393,7 @@ impl<'a> Ctx<'a> {
     /// into the largest array, whose miss the caller overlaps with other work): `None` when the
     /// entry is dominated, bounded out or has no departure in time.
     #[inline]
-    fn entry(&self, st: &mut SearchState, layer_base: u32, s: StopIdx, t: u32, cost: u32, pred: u32) -> Option<Entering> {
+    fn entry(&self, st: &mut SearchState, layer: u32, s: StopIdx, t: u32, cost: u32, pred: u32) -> Option<Entering> {
         // Entering at time t with cost c gives every later waiting node the cost
         // c − t + its time, so an earlier entry (time ≤ t) at no greater offset c − t dominates
         // this one and nothing would change: skip it before searching the departures. An entry
@@ -407,7 +425,7 @@ impl<'a> Ctx<'a> {
         if dep > self.horizon {
             return None;
         }
-        let node = layer_base + p;
+        let node = self.ids.wait(layer, p);
         if let Some(l) = st.labels.get(node as usize) {
             prefetch(l);
         }
@@ -435,16 +453,16 @@ impl<'a> Ctx<'a> {
     /// The changes after alighting at event `e2` at cost `at` from ride node `node`: into the
     /// stop's own waiting chain (unless a trip-specific rule governs it) and along each walking
     /// link (sorted by cost, so the first one that cannot beat the best journey ends the loop).
-    #[allow(clippy::too_many_arguments)]
     #[inline]
-    fn change(&self, tt: &Timetable, st: &mut SearchState, walk: &WalkLinks, base: u32, node: u32, e2: usize, at: u32, rules: bool) {
+    fn change(&self, st: &mut SearchState, layer: u32, node: u32, e2: usize, at: u32, rules: bool) {
+        let tt = self.tt;
         let (v, ta) = (self.net.stop(e2), self.net.arr(e2));
         // Entries are found first and relaxed after, so the label misses of all of them overlap.
         let mut entering = std::mem::take(&mut st.entering);
         entering.clear();
         if !rules {
             if let Some(mt) = tt.stop_transfer_s(v, self.p.transfer_s()) {
-                entering.extend(self.entry(st, base, v, ta + mt, at + mt, node));
+                entering.extend(self.entry(st, layer, v, ta + mt, at + mt, node));
             }
         }
         // Each link's entry has a key of at least `at + h(v)` plus the penalties of the boardings
@@ -452,7 +470,7 @@ impl<'a> Ctx<'a> {
         // whose end needs too many are passed over without touching that stop's record.
         let hv = self.h_stop(st, v);
         let floor = if self.landmarks.is_some() && hv != UNREACHABLE { Some(at + hv) } else { None };
-        let links = walk.from(v);
+        let links = self.walk.from(v);
         for (i, f) in links.iter().enumerate() {
             let wc = at + f.cost_s;
             if wc > st.best {
@@ -467,7 +485,7 @@ impl<'a> Ctx<'a> {
                 prefetch(&st.entries[ahead.to.idx()]);
             }
             self.record_arrival(st, f.to, ta + f.walk_s);
-            entering.extend(self.entry(st, base, f.to, ta + f.walk_s, wc, node));
+            entering.extend(self.entry(st, layer, f.to, ta + f.walk_s, wc, node));
         }
         for x in &entering {
             st.relax(x.node, x.cost, x.h, x.pred);
@@ -510,19 +528,25 @@ fn prefetch<T>(x: &T) {
     let _ = x;
 }
 
-fn run(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params, layers: u32, goal: Goal) {
-    st.reset(net, tt.stops.len(), layers);
-    let key = p.walk_key(net);
-    let directed = goal == Goal::Target && !ends.targets.is_empty();
-    let prep = st.take_prepared(tt, net, key, directed);
-    search_loop(tt, net, st, &prep, ends, depart_s, p, layers, goal);
+fn run(q: Query, st: &mut SearchState) {
+    st.reset(q.net, q.tt.stops.len(), q.layers);
+    let directed = q.goal == Goal::Target && !q.ends.targets.is_empty();
+    let prep = st.take_prepared(q.tt, q.net, q.p.walk_key(q.net), directed);
+    let landmarks = if q.goal == Goal::Target { goal_bounds(q.tt, q.net, st, &prep, q.ends) } else { None };
+    search_loop(&Ctx::new(q, &prep.walk, landmarks), st);
     st.give_back(prep);
 }
 
 /// Makes ready the bounds of a goal-directed search from `ends` (kept from the previous search
 /// when it had the same ends, landmarks and walking setting), and returns its landmarks; `None`
 /// when it cannot be goal-directed.
-fn goal_bounds<'a>(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &'a Prepared, ends: &Endpoints) -> Option<(&'a Landmarks, Active)> {
+fn goal_bounds<'a>(
+    tt: &Timetable,
+    net: &Network,
+    st: &mut SearchState,
+    prep: &'a Prepared,
+    ends: &Endpoints,
+) -> Option<(&'a Landmarks, Active)> {
     let (Some(lm), Some(&o), Some(&t)) = (prep.landmarks.as_ref(), ends.origins.first(), ends.targets.first()) else { return None };
     let act = lm.select(o, t);
     st.target_anchors.clear();
@@ -537,7 +561,7 @@ fn goal_bounds<'a>(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &'
         let (bounds, gen) = (&mut st.bounds, st.bound_gen);
         let anchors = &st.origin_anchors;
         let from_origins = |s: usize| bound_from(lm, anchors, StopIdx(s as u32));
-        st.exact_key = lm.exact_near(&ends.targets, &ends.origins, &mut st.heap, &mut st.exact, gen, from_origins, |s, d| bounds[s] = (gen, d));
+        st.exact_key = lm.exact_near(ends, &mut st.heap, (&mut st.exact, gen), from_origins, |s, d| bounds[s] = (gen, d));
         st.heap.clear();
     }
     Some((lm, act))
@@ -556,8 +580,8 @@ pub fn node_bounds(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &E
     st.reset(net, tt.stops.len(), 1);
     let prep = st.take_prepared(tt, net, p.walk_key(net), true);
     let landmarks = goal_bounds(tt, net, st, &prep, ends);
-    let cx = Ctx::new(net, p, depart_s, Goal::Target, landmarks);
-    let out = (0..2 * net.events() as u32 + 1)
+    let cx = Ctx::new(Query { tt, net, ends, depart_s, p, layers: 1, goal: Goal::Target }, &prep.walk, landmarks);
+    let out = (0..cx.ids.per_layer())
         .map(|node| match decode(net, node).1 {
             Node::Wait(q) => {
                 let s = net.stop(net.by_stop[q as usize] as usize);
@@ -572,11 +596,9 @@ pub fn node_bounds(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &E
     out
 }
 
-#[allow(clippy::too_many_arguments)]
-fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepared, ends: &Endpoints, depart_s: u32, p: &Params, layers: u32, goal: Goal) {
-    let walk = &prep.walk;
-    let landmarks = if goal == Goal::Target { goal_bounds(tt, net, st, prep, ends) } else { None };
-    let cx = Ctx::new(net, p, depart_s, goal, landmarks);
+fn search_loop(cx: &Ctx, st: &mut SearchState) {
+    let (net, walk, ids, layers, goal) = (cx.net, cx.walk, cx.ids, cx.layers, cx.goal);
+    let (ends, depart_s, p) = (cx.ends, cx.depart_s, cx.p);
     // With one layer, the first sink label bounds every useful key; with several, each layer's
     // sink is wanted on its own.
     let prune_by_sink = layers == 1 && goal == Goal::Target;
@@ -598,7 +620,6 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
             cx.enter(st, 0, f.to, depart_s + f.walk_s, depart_s + f.cost_s, FROM_ORIGIN);
         }
     }
-    let per = st.layer_nodes;
     let defer = cx.landmarks.is_some() && layers == 1;
     let mut sinks_left = layers;
     while let Some((key, node)) = st.heap.pop() {
@@ -608,116 +629,121 @@ fn search_loop(tt: &Timetable, net: &Network, st: &mut SearchState, prep: &Prepa
                 prefetch(l);
             }
             // What settling it reads first: a waiting node's event, a ride node's next event.
-            let local = n % per;
-            if local < cx.e {
-                if let Some(ev) = net.by_stop.get(local as usize) {
-                    prefetch(ev);
+            match ids.decode(n).1 {
+                Node::Wait(q) => {
+                    if let Some(ev) = net.by_stop.get(q as usize) {
+                        prefetch(ev);
+                    }
                 }
-            } else if let Some(ev) = net.events.get((local - cx.e) as usize + 1) {
-                prefetch(ev);
+                Node::Ride(e) => {
+                    if let Some(ev) = net.events.get(e as usize + 1) {
+                        prefetch(ev);
+                    }
+                }
+                Node::Sink => {}
             }
         }
         if node & DEFERRED != 0 {
             // The changes after alighting from ride node `r` (settled, so its cost is final).
             let r = node & !DEFERRED;
-            let e = (r % per - cx.e) as usize;
+            let (layer, Node::Ride(e)) = ids.decode(r) else { unreachable!("only ride nodes are deferred") };
+            let e = e as usize;
             let at = st.labels[r as usize].cost + (net.arr(e + 1) - net.dep(e));
-            cx.change(tt, st, walk, r / per * per, r, e + 1, at, net.flags(e + 1) & HAS_RULES != 0);
+            cx.change(st, layer, r, e + 1, at, net.flags(e + 1) & HAS_RULES != 0);
             continue;
         }
         let c = st.labels[node as usize].cost;
-        let (layer, local) = (node / per, node % per);
-        let base = layer * per;
-        let e_count = cx.e;
-        if local < e_count {
-            // Waiting node W(p).
-            let pos = local;
-            let ev = net.by_stop[pos as usize] as usize;
-            let s = net.stop(ev);
-            let hs = cx.h_stop(st, s);
-            let h = cx.h_wait(st, s, hs);
-            if key > c + h {
-                continue;
-            }
-            st.settled += 1;
-            let t = net.by_stop_dep[pos as usize];
-            if pos + 1 < net.stop_first[s.idx() + 1] {
-                let nt = net.by_stop_dep[pos as usize + 1];
-                if nt <= cx.horizon {
-                    st.relax(node + 1, c + (nt - t), h, node);
+        let (layer, kind) = ids.decode(node);
+        // The next layer boarding leads to: the same one with one layer, else one more ride.
+        let boarded = if layers == 1 { Some(0) } else { Some(layer + 1).filter(|&l| l < layers) };
+        match kind {
+            Node::Wait(pos) => {
+                let ev = net.by_stop[pos as usize] as usize;
+                let s = net.stop(ev);
+                let hs = cx.h_stop(st, s);
+                let h = cx.h_wait(st, s, hs);
+                if key > c + h {
+                    continue;
                 }
-            }
-            let f = net.flags(ev);
-            if f & (NO_PICKUP | LAST_OF_TRIP) == 0 && cx.event_ok(ev) {
-                let next_layer = if layers == 1 { 0 } else { layer + 1 };
-                if next_layer < layers {
-                    let hr = cx.h_ride(st, ev);
-                    st.relax(next_layer * per + e_count + ev as u32, c + p.transfer_penalty_s, hr, node);
+                st.settled += 1;
+                let t = net.by_stop_dep[pos as usize];
+                if pos + 1 < net.stop_first[s.idx() + 1] {
+                    let nt = net.by_stop_dep[pos as usize + 1];
+                    if nt <= cx.horizon {
+                        st.relax(ids.wait(layer, pos + 1), c + (nt - t), h, node);
+                    }
                 }
-            }
-        } else if local < 2 * e_count {
-            // Ride node R(e): on board, leaving at dep[e].
-            let e = (local - e_count) as usize;
-            if key > c + cx.h_ride(st, e) {
-                continue;
-            }
-            st.settled += 1;
-            let t = net.dep(e);
-            let e2 = e + 1;
-            let v = net.stop(e2);
-            if net.flags(e2) & LAST_OF_TRIP == 0 && net.dep(e2) <= cx.horizon {
-                let h = cx.h_ride(st, e2);
-                st.relax(node + 1, c + (net.dep(e2) - t), h, node);
-            }
-            if net.flags(e2) & NO_DROP_OFF != 0 || !cx.event_ok(e2) {
-                continue;
-            }
-            let ta = net.arr(e2);
-            if ta > cx.horizon {
-                continue;
-            }
-            let at = c + (ta - t);
-            if at > st.best || !cx.alight_useful(st, v, ta, at) {
-                continue;
-            }
-            cx.record_arrival(st, v, ta);
-            let sink_walk = cx.sink_walk(st, v);
-            if sink_walk != u32::MAX {
-                st.relax_sink(base + per - 1, at + sink_walk, node, prune_by_sink);
-            }
-            let rules = net.flags(e2) & HAS_RULES != 0;
-            if rules {
-                let next = if layers == 1 { 0 } else { layer + 1 };
-                if next < layers {
-                    for (f, cost) in rule_boardings(tt, net, p, cx.horizon, cx.mask, e2, at) {
-                        let h = cx.h_ride(st, f as usize);
-                        st.relax(next * per + e_count + f, cost, h, node);
+                let f = net.flags(ev);
+                if f & (NO_PICKUP | LAST_OF_TRIP) == 0 && cx.event_ok(ev) {
+                    if let Some(next_layer) = boarded {
+                        let hr = cx.h_ride(st, ev);
+                        st.relax(ids.ride(next_layer, ev as u32), c + p.transfer_penalty_s, hr, node);
                     }
                 }
             }
-            if defer {
-                // Every change from here boards again later (at least once, and at least as often
-                // as `alight[v]` says), so this bounds the key of whatever it reaches: file the
-                // changes under it, to be made only if the search gets that far (most alightings
-                // near the end of a search never do).
-                let hs = cx.h_stop(st, v);
-                let h = cx.with_boardings(hs, st.boardings.alight[v.idx()].max(1));
-                if h != UNREACHABLE && at + h <= st.best {
-                    st.heap.push(at + h, node | DEFERRED);
+            Node::Ride(e) => {
+                // On board, leaving at dep[e].
+                let e = e as usize;
+                if key > c + cx.h_ride(st, e) {
+                    continue;
                 }
-            } else {
-                cx.change(tt, st, walk, base, node, e2, at, rules);
+                st.settled += 1;
+                let t = net.dep(e);
+                let e2 = e + 1;
+                let v = net.stop(e2);
+                if net.flags(e2) & LAST_OF_TRIP == 0 && net.dep(e2) <= cx.horizon {
+                    let h = cx.h_ride(st, e2);
+                    st.relax(ids.ride(layer, e2 as u32), c + (net.dep(e2) - t), h, node);
+                }
+                if net.flags(e2) & NO_DROP_OFF != 0 || !cx.event_ok(e2) {
+                    continue;
+                }
+                let ta = net.arr(e2);
+                if ta > cx.horizon {
+                    continue;
+                }
+                let at = c + (ta - t);
+                if at > st.best || !cx.alight_useful(st, v, ta, at) {
+                    continue;
+                }
+                cx.record_arrival(st, v, ta);
+                let sink_walk = cx.sink_walk(st, v);
+                if sink_walk != u32::MAX {
+                    st.relax_sink(ids.sink(layer), at + sink_walk, node, prune_by_sink);
+                }
+                let rules = net.flags(e2) & HAS_RULES != 0;
+                if rules {
+                    if let Some(next_layer) = boarded {
+                        for (f, cost) in rule_boardings(cx.tt, net, p, cx.horizon, cx.mask, e2, at) {
+                            let h = cx.h_ride(st, f as usize);
+                            st.relax(ids.ride(next_layer, f), cost, h, node);
+                        }
+                    }
+                }
+                if defer {
+                    // Every change from here boards again later (at least once, and at least as often
+                    // as `alight[v]` says), so this bounds the key of whatever it reaches: file the
+                    // changes under it, to be made only if the search gets that far (most alightings
+                    // near the end of a search never do).
+                    let hs = cx.h_stop(st, v);
+                    let h = cx.with_boardings(hs, st.boardings.alight[v.idx()].max(1));
+                    if h != UNREACHABLE && at + h <= st.best {
+                        st.heap.push(at + h, node | DEFERRED);
+                    }
+                } else {
+                    cx.change(st, layer, node, e2, at, rules);
+                }
             }
-        } else {
-            // Sink.
-            if key > c {
-                continue;
-            }
-            st.settled += 1;
-            if goal == Goal::Target {
-                sinks_left -= 1;
-                if sinks_left == 0 {
-                    break;
+            Node::Sink => {
+                if key > c {
+                    continue;
+                }
+                st.settled += 1;
+                if goal == Goal::Target {
+                    sinks_left -= 1;
+                    if sinks_left == 0 {
+                        break;
+                    }
                 }
             }
         }
@@ -749,7 +775,12 @@ fn sink_arrival(net: &Network, tt: &Timetable, st: &SearchState, p: &Params, end
         return Some((ta, 0));
     }
     let walk = tt.walk(p.step_free.walk_profile());
-    ends.targets.iter().filter_map(|&t| walk.between(v, t)).filter(|f| f.length_m as f64 <= p.max_walk_m).map(|f| (ta + f.duration_s(p.walk_speed_mps), f.duration_s(p.walk_speed_mps))).min()
+    ends.targets
+        .iter()
+        .filter_map(|&t| walk.between(v, t))
+        .filter(|f| f.length_m as f64 <= p.max_walk_m)
+        .map(|f| (ta + f.duration_s(p.walk_speed_mps), f.duration_s(p.walk_speed_mps)))
+        .min()
 }
 
 /// True when the step `a → b` boards a vehicle (from a waiting node, or directly under a
@@ -784,7 +815,7 @@ fn direct_walk(tt: &Timetable, ends: &Endpoints, depart_s: u32, p: &Params) -> O
         }
     }
     best.map(|(d, o, t)| {
-        let wc = if p.walk_weight == 1.0 { d } else { (d as f64 * p.walk_weight).round() as u32 };
+        let wc = weighted_walk_s(d, p.walk_weight);
         Journey { nodes: vec![], arrival_s: depart_s + d, cost_s: depart_s + wc, rides: 0, direct_walk: Some((o, t, d)) }
     })
 }
@@ -823,7 +854,12 @@ pub fn access_walk_s(tt: &Timetable, ends: &Endpoints, s: StopIdx, p: &Params) -
         return Some(0);
     }
     let walk = tt.walk(p.step_free.walk_profile());
-    ends.origins.iter().filter_map(|&o| walk.between(o, s)).filter(|f| f.length_m as f64 <= p.max_walk_m).map(|f| f.duration_s(p.walk_speed_mps)).min()
+    ends.origins
+        .iter()
+        .filter_map(|&o| walk.between(o, s))
+        .filter(|f| f.length_m as f64 <= p.max_walk_m)
+        .map(|f| f.duration_s(p.walk_speed_mps))
+        .min()
 }
 
 /// Up to `k` options: the best journey leaving at or after `depart_s`, then the best leaving after
@@ -855,8 +891,15 @@ pub fn options(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpo
     out
 }
 
-fn earliest_rides_only(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) -> Option<Journey> {
-    run(tt, net, st, ends, depart_s, p, 1, Goal::Target);
+fn earliest_rides_only(
+    tt: &Timetable,
+    net: &Network,
+    st: &mut SearchState,
+    ends: &Endpoints,
+    depart_s: u32,
+    p: &Params,
+) -> Option<Journey> {
+    run(Query { tt, net, ends, depart_s, p, layers: 1, goal: Goal::Target }, st);
     let sink = st.sink(0);
     let c = st.cost_of(sink)?;
     let nodes = st.trace(sink);
@@ -867,10 +910,18 @@ fn earliest_rides_only(tt: &Timetable, net: &Network, st: &mut SearchState, ends
 
 /// Pareto set over (arrival time, number of rides), fewest rides first. Runs a layered search
 /// (layer = rides so far) with no penalty, so its memory grows with `max_rides`.
-pub fn pareto(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params, max_rides: u32) -> Vec<Journey> {
+pub fn pareto(
+    tt: &Timetable,
+    net: &Network,
+    st: &mut SearchState,
+    ends: &Endpoints,
+    depart_s: u32,
+    p: &Params,
+    max_rides: u32,
+) -> Vec<Journey> {
     let mut q = p.clone();
     q.transfer_penalty_s = 0;
-    run(tt, net, st, ends, depart_s, &q, max_rides + 1, Goal::Target);
+    run(Query { tt, net, ends, depart_s, p: &q, layers: max_rides + 1, goal: Goal::Target }, st);
     let mut out: Vec<Journey> = Vec::new();
     if let Some(w) = direct_walk(tt, ends, depart_s, &q) {
         out.push(w);
@@ -899,44 +950,44 @@ pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, or
     if st.stop_arrival.len() < n {
         st.stop_arrival.resize(n, u32::MAX);
     }
-    sweep::one_to_all(tt, net, &prep.walk, &mut st.sweep, &mut st.stop_arrival[..n], origins, depart_s, p);
+    let q = sweep::SweepQuery { tt, net, walk: &prep.walk, origins, depart_s, p };
+    sweep::one_to_all(&q, &mut st.sweep, &mut st.stop_arrival[..n]);
     st.give_back(prep);
     &st.stop_arrival[..n]
 }
 
 /// Runs a target search and keeps all state, for tests that compare node costs.
 pub fn run_to_target(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) {
-    run(tt, net, st, ends, depart_s, p, 1, Goal::Target);
+    run(Query { tt, net, ends, depart_s, p, layers: 1, goal: Goal::Target }, st);
 }
 
 /// Runs a search that settles every node within the time limit, keeping all state.
 pub fn run_all(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) {
-    run(tt, net, st, ends, depart_s, p, 1, Goal::All);
+    run(Query { tt, net, ends, depart_s, p, layers: 1, goal: Goal::All }, st);
 }
 
 /// The outgoing edges of a node with their costs, as the search relaxes them (for oracle tests).
 pub fn edges_of(tt: &Timetable, net: &Network, ends: &Endpoints, p: &Params, node: u32, out: &mut Vec<(u32, u32)>) {
     out.clear();
-    let e_count = net.events() as u32;
-    let per = 2 * e_count + 1;
+    let ids = NodeIds::of(net);
     let walk = tt.walk(p.step_free.walk_profile());
     let mask = p.step_free.event_mask();
     let ok = |e: usize| mask == 0 || net.flags(e) & mask != 0;
     let enter = |s: StopIdx, t: u32, extra: u32, out: &mut Vec<(u32, u32)>, from_t: u32| {
         if let Some(q) = net.first_departure(s, t) {
             let dep = net.dep(net.by_stop[q as usize] as usize);
-            out.push((q, (dep - from_t) + extra));
+            out.push((ids.wait(0, q), (dep - from_t) + extra));
         }
     };
-    match decode(net, node).1 {
+    match ids.decode(node).1 {
         Node::Wait(pos) => {
             let ev = net.by_stop[pos as usize] as usize;
             let s = net.stop(ev);
             if pos + 1 < net.stop_first[s.idx() + 1] {
-                out.push((node + 1, net.dep(net.by_stop[pos as usize + 1] as usize) - net.dep(ev)));
+                out.push((ids.wait(0, pos + 1), net.dep(net.by_stop[pos as usize + 1] as usize) - net.dep(ev)));
             }
             if net.flags(ev) & (NO_PICKUP | LAST_OF_TRIP) == 0 && ok(ev) {
-                out.push((e_count + ev as u32, p.transfer_penalty_s));
+                out.push((ids.ride(0, ev as u32), p.transfer_penalty_s));
             }
         }
         Node::Ride(e) if net.flags(e as usize) & LAST_OF_TRIP != 0 => {}
@@ -945,17 +996,17 @@ pub fn edges_of(tt: &Timetable, net: &Network, ends: &Endpoints, p: &Params, nod
             let t = net.dep(e);
             let e2 = e + 1;
             if net.flags(e2) & LAST_OF_TRIP == 0 {
-                out.push((node + 1, net.dep(e2) - t));
+                out.push((ids.ride(0, e2 as u32), net.dep(e2) - t));
             }
             if net.flags(e2) & NO_DROP_OFF == 0 && ok(e2) {
                 let ta = net.arr(e2);
                 let v = net.stop(e2);
                 if ends.targets.contains(&v) {
-                    out.push((per - 1, ta - t));
+                    out.push((ids.sink(0), ta - t));
                 }
                 if net.flags(e2) & HAS_RULES != 0 {
                     for (f, cost) in rule_boardings(tt, net, p, u32::MAX, mask, e2, ta - t) {
-                        out.push((e_count + f, cost));
+                        out.push((ids.ride(0, f), cost));
                     }
                 } else if let Some(mt) = tt.stop_transfer_s(v, p.transfer_s()) {
                     enter(v, ta + mt, 0, out, t);
@@ -963,13 +1014,13 @@ pub fn edges_of(tt: &Timetable, net: &Network, ends: &Endpoints, p: &Params, nod
                 for f in walk.from(v) {
                     if f.length_m as f64 <= p.max_walk_m {
                         let d = f.duration_s(p.walk_speed_mps);
-                        let wc = if p.walk_weight == 1.0 { d } else { (d as f64 * p.walk_weight).round() as u32 };
+                        let wc = weighted_walk_s(d, p.walk_weight);
                         if ends.targets.contains(&f.to) {
-                            out.push((per - 1, ta - t + wc));
+                            out.push((ids.sink(0), ta - t + wc));
                         }
                         if let Some(q) = net.first_departure(f.to, ta + d) {
                             let dep = net.dep(net.by_stop[q as usize] as usize);
-                            out.push((q, (ta - t) + wc + (dep - ta - d)));
+                            out.push((ids.wait(0, q), (ta - t) + wc + (dep - ta - d)));
                         }
                     }
                 }

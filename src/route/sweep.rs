@@ -63,15 +63,35 @@ fn gather(net: &Network, order: &[u32], from: usize, out: &mut [Ride; AHEAD]) ->
     let n = AHEAD.min(order.len().saturating_sub(from));
     for (r, &e) in out.iter_mut().zip(&order[from..from + n]) {
         let (a, b) = (net.events[e as usize], net.events[e as usize + 1]);
-        *r = Ride { e, dep: a.dep, stop: a.stop, flags: a.flags, next_flags: b.flags, next_dep: b.dep, next_arr: b.dep - b.dwell as u32, next_stop: b.stop };
+        *r = Ride {
+            e,
+            dep: a.dep,
+            stop: a.stop,
+            flags: a.flags,
+            next_flags: b.flags,
+            next_dep: b.dep,
+            next_arr: b.dep - b.dwell as u32,
+            next_stop: b.stop,
+        };
     }
     n
 }
 
+/// What a sweep is asked: from where and when, under which parameters, walking the links of
+/// `walk` (prepared for `p`'s walking setting).
+pub(crate) struct SweepQuery<'a> {
+    pub tt: &'a Timetable,
+    pub net: &'a Network,
+    pub walk: &'a WalkLinks,
+    pub origins: &'a [StopIdx],
+    pub depart_s: u32,
+    pub p: &'a Params,
+}
+
 /// Writes into `arrival` (one slot per stop) the earliest arrival at every stop from the
-/// origins leaving at `depart_s`, within `p.max_duration_s` (u32::MAX: not reached), walking
-/// the links of `walk` (prepared for `p`'s walking setting).
-pub(crate) fn one_to_all(tt: &Timetable, net: &Network, walk: &WalkLinks, buf: &mut SweepBuffers, arrival: &mut [u32], origins: &[StopIdx], depart_s: u32, p: &Params) {
+/// origins leaving at `depart_s`, within `p.max_duration_s` (u32::MAX: not reached).
+pub(crate) fn one_to_all(q: &SweepQuery, buf: &mut SweepBuffers, arrival: &mut [u32]) {
+    let SweepQuery { tt, net, walk, origins, depart_s, p } = *q;
     let n = tt.stops.len();
     buf.stops.clear();
     buf.stops.resize(n, FRESH);

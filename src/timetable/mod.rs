@@ -407,11 +407,8 @@ impl Timetable {
     /// specific rule (trip over route over any, the "from" side first), else the stop's own.
     /// `None` when the change is forbidden, else the minimum time.
     pub fn change_s(&self, s: StopIdx, a: TripIdx, b: TripIdx, default_s: u32) -> Option<u32> {
-        let best = self
-            .rules_at(s)
-            .iter()
-            .filter_map(|r| Some(((r.from.matches(self, a)?, r.to.matches(self, b)?), r.rule)))
-            .max_by_key(|x| x.0);
+        let best =
+            self.rules_at(s).iter().filter_map(|r| Some(((r.from.matches(self, a)?, r.to.matches(self, b)?), r.rule))).max_by_key(|x| x.0);
         match best {
             Some((_, TransferRule::Forbidden)) => None,
             Some((_, TransferRule::Timed)) => Some(0),
@@ -512,10 +509,14 @@ impl Timetable {
         let (t0, t1) = m.trip_range;
         let mut out = Timetable::default();
         let ls = |x: StopIdx| StopIdx(x.0 - s0);
-        out.stops = self.stops[s0 as usize..s1 as usize].iter().cloned().map(|mut st| {
-            st.parent = st.parent.map(ls);
-            st
-        }).collect();
+        out.stops = self.stops[s0 as usize..s1 as usize]
+            .iter()
+            .cloned()
+            .map(|mut st| {
+                st.parent = st.parent.map(ls);
+                st
+            })
+            .collect();
         let trips = &self.trips[t0 as usize..t1 as usize];
         let r0 = self.routes.iter().position(|r| r.feed.idx() == i).unwrap_or(0) as u32;
         let r1 = self.routes.iter().rposition(|r| r.feed.idx() == i).map_or(r0, |x| x as u32 + 1);
@@ -528,13 +529,17 @@ impl Timetable {
         let sh0 = trips.iter().filter_map(|t| t.shape).min().unwrap_or(0);
         let sh1 = trips.iter().filter_map(|t| t.shape).max().map_or(sh0, |x| x + 1);
         out.shapes = self.shapes.get(sh0 as usize..sh1 as usize).map(|s| s.to_vec()).unwrap_or_default();
-        out.trips = trips.iter().cloned().map(|mut t| {
-            t.route = RouteIdx(t.route.0 - r0);
-            t.service = ServiceIdx(t.service.0 - sv0);
-            t.first_event -= e0;
-            t.shape = t.shape.map(|x| x - sh0);
-            t
-        }).collect();
+        out.trips = trips
+            .iter()
+            .cloned()
+            .map(|mut t| {
+                t.route = RouteIdx(t.route.0 - r0);
+                t.service = ServiceIdx(t.service.0 - sv0);
+                t.first_event -= e0;
+                t.shape = t.shape.map(|x| x - sh0);
+                t
+            })
+            .collect();
         let (e0, e1) = (e0 as usize, e1 as usize);
         out.ev_stop = self.ev_stop[e0..e1].iter().map(|&x| ls(x)).collect();
         out.ev_arr = self.ev_arr[e0..e1].to_vec();
@@ -547,12 +552,23 @@ impl Timetable {
             RuleEnd::Route(r) => RuleEnd::Route(RouteIdx(r.0 - r0)),
             other => other.clone(),
         };
-        out.specific_rules = self.specific_rules.iter().filter(|r| mine(r.stop)).map(|r| SpecificRule { stop: ls(r.stop), from: unshift(&r.from), to: unshift(&r.to), rule: r.rule }).collect();
-        out.pathways = self.pathways.iter().filter(|p| mine(p.from)).cloned().map(|mut p| {
-            p.from = ls(p.from);
-            p.to = ls(p.to);
-            p
-        }).collect();
+        out.specific_rules = self
+            .specific_rules
+            .iter()
+            .filter(|r| mine(r.stop))
+            .map(|r| SpecificRule { stop: ls(r.stop), from: unshift(&r.from), to: unshift(&r.to), rule: r.rule })
+            .collect();
+        out.pathways = self
+            .pathways
+            .iter()
+            .filter(|p| mine(p.from))
+            .cloned()
+            .map(|mut p| {
+                p.from = ls(p.from);
+                p.to = ls(p.to);
+                p
+            })
+            .collect();
         out.feeds = vec![m.clone()];
         out
     }

@@ -243,7 +243,15 @@ pub fn rebuild(tt: &mut Timetable, cfg: &WalkConfig) {
                         let d = haversine_m(sa.lat, sa.lon, sb.lat, sb.lon);
                         if d <= cfg.link_radius_m {
                             let access = Access::worst(entrance_access(tt, a), entrance_access(tt, b));
-                            edges[a as usize].push(Edge { to: b, length_m: (d * cfg.detour_factor) as f32, fixed_s: 0, min_s: 0, access, pathway: u32::MAX, reversed: false });
+                            edges[a as usize].push(Edge {
+                                to: b,
+                                length_m: (d * cfg.detour_factor) as f32,
+                                fixed_s: 0,
+                                min_s: 0,
+                                access,
+                                pathway: u32::MAX,
+                                reversed: false,
+                            });
                         }
                     }
                 }
@@ -355,7 +363,16 @@ fn closure(
         found.dedup_by_key(|f| f.0);
         let first_new = set.paths.len();
         for (to, state) in found {
-            let mut fp = Footpath { to: StopIdx(to), length_m: 0.0, fixed_s: 0, min_s: 0, access: Access::Yes, steps_start: set.steps.len() as u32, steps_len: 0, street: false };
+            let mut fp = Footpath {
+                to: StopIdx(to),
+                length_m: 0.0,
+                fixed_s: 0,
+                min_s: 0,
+                access: Access::Yes,
+                steps_start: set.steps.len() as u32,
+                steps_len: 0,
+                street: false,
+            };
             let mut chain = Vec::new();
             let mut cur = state;
             while cur as usize != start {
@@ -392,7 +409,15 @@ fn closure(
 /// transfer_type 3 removes the link, 1 and 2 make sure it exists (even past the walking limit)
 /// and takes at least min_transfer_time. The feed does not say whether such a link is step-free,
 /// so a link that exists only because of the rule is "unknown" (left out of the strict profile).
-fn apply_link_rules(tt: &Timetable, cfg: &WalkConfig, profile: WalkProfile, s: usize, rules: &[(StopIdx, StopIdx, TransferRule)], set: &mut FootpathSet, first_new: usize) {
+fn apply_link_rules(
+    tt: &Timetable,
+    cfg: &WalkConfig,
+    profile: WalkProfile,
+    s: usize,
+    rules: &[(StopIdx, StopIdx, TransferRule)],
+    set: &mut FootpathSet,
+    first_new: usize,
+) {
     let from = StopIdx(s as u32);
     let lo = rules.partition_point(|r| r.0 < from);
     let hi = rules.partition_point(|r| r.0 <= from);
@@ -415,7 +440,16 @@ fn apply_link_rules(tt: &Timetable, cfg: &WalkConfig, profile: WalkProfile, s: u
                 let (a, b) = (tt.stop(from), tt.stop(to));
                 let length_m = (haversine_m(a.lat, a.lon, b.lat, b.lon) * cfg.detour_factor) as f32;
                 let min_s = if let TransferRule::MinTime(m) = rule { m } else { 0 };
-                set.paths.push(Footpath { to, length_m, fixed_s: 0, min_s, access: Access::Unknown, steps_start: set.steps.len() as u32, steps_len: 0, street: true });
+                set.paths.push(Footpath {
+                    to,
+                    length_m,
+                    fixed_s: 0,
+                    min_s,
+                    access: Access::Unknown,
+                    steps_start: set.steps.len() as u32,
+                    steps_len: 0,
+                    street: true,
+                });
             }
         }
     }

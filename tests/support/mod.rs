@@ -21,7 +21,10 @@ pub struct Feed {
 impl Feed {
     /// A feed with one agency in time zone `tz` and no other file yet.
     pub fn new(tz: &str) -> Feed {
-        Feed::default().file("agency.txt", &format!("agency_id,agency_name,agency_url,agency_timezone\nTA,Test Transit,https://transit.example/,{tz}\n"))
+        Feed::default().file(
+            "agency.txt",
+            &format!("agency_id,agency_name,agency_url,agency_timezone\nTA,Test Transit,https://transit.example/,{tz}\n"),
+        )
     }
 
     /// Sets (or replaces) one file. Leading spaces of each line are removed, so tests can indent
@@ -77,7 +80,6 @@ impl Feed {
         engine
     }
 }
-
 
 /// A planning query with the given fields and defaults for the rest.
 pub fn query(from: &str, to: &str, date: &str, time: &str) -> PlanQuery {

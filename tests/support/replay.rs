@@ -63,7 +63,15 @@ fn change_at(tt: &Timetable, s: StopIdx, p: &Params) -> Result<u32, String> {
 
 /// Checks `it`, planned from `from` to `to` on `date` leaving at or after `query_s` with `p`.
 /// `from`/`to` are the endpoint stop sets the query resolved to.
-pub fn replay(tt: &Timetable, date: NaiveDate, query_s: u32, p: &Params, from: &[StopIdx], to: &[StopIdx], it: &Itinerary) -> Result<(), String> {
+pub fn replay(
+    tt: &Timetable,
+    date: NaiveDate,
+    query_s: u32,
+    p: &Params,
+    from: &[StopIdx],
+    to: &[StopIdx],
+    it: &Itinerary,
+) -> Result<(), String> {
     let legs = &it.legs;
     let strict = p.step_free == StepFree::Strict;
     if legs.is_empty() {
@@ -81,7 +89,13 @@ pub fn replay(tt: &Timetable, date: NaiveDate, query_s: u32, p: &Params, from: &
         return Err(format!("leaves at {} before the query time {query_s}", legs[0].depart_s));
     }
     if it.depart_s != legs[0].depart_s || it.arrive_s != legs[legs.len() - 1].arrive_s {
-        return Err(format!("itinerary {}–{} does not span its legs {}–{}", it.depart_s, it.arrive_s, legs[0].depart_s, legs[legs.len() - 1].arrive_s));
+        return Err(format!(
+            "itinerary {}–{} does not span its legs {}–{}",
+            it.depart_s,
+            it.arrive_s,
+            legs[0].depart_s,
+            legs[legs.len() - 1].arrive_s
+        ));
     }
     let tz0 = tt.feeds[0].timezone;
     let mut prev_ride: Option<(StopIdx, u32)> = None; // (alighting stop, arrival) of the last ride
@@ -110,21 +124,36 @@ pub fn replay(tt: &Timetable, date: NaiveDate, query_s: u32, p: &Params, from: &
                 let gc = haversine_m(sa.lat, sa.lon, sb.lat, sb.lon);
                 let least = (gc / p.walk_speed_mps).floor() as u32;
                 if leg.duration_s < least {
-                    return Err(at(format!("walks {gc:.0} m in {} s, faster than {} m/s (at least {least} s)", leg.duration_s, p.walk_speed_mps)));
+                    return Err(at(format!(
+                        "walks {gc:.0} m in {} s, faster than {} m/s (at least {least} s)",
+                        leg.duration_s, p.walk_speed_mps
+                    )));
                 }
-                let link = tt.walk(p.step_free.walk_profile()).between(a, b).ok_or_else(|| at("no walking link between these stops".into()))?;
+                let link =
+                    tt.walk(p.step_free.walk_profile()).between(a, b).ok_or_else(|| at("no walking link between these stops".into()))?;
                 if leg.duration_s < link.duration_s(p.walk_speed_mps) {
-                    return Err(at(format!("walks in {} s, the walking link takes {} s", leg.duration_s, link.duration_s(p.walk_speed_mps))));
+                    return Err(at(format!(
+                        "walks in {} s, the walking link takes {} s",
+                        leg.duration_s,
+                        link.duration_s(p.walk_speed_mps)
+                    )));
                 }
                 if (link.length_m as f64) > p.max_walk_m {
                     return Err(at(format!("walks {} m, more than the maximum {} m", link.length_m, p.max_walk_m)));
                 }
-                if tt.link_rules.iter().any(|r| r.0 == a && r.1 == b && r.2 == TransferRule::Forbidden) && prev_ride.is_some() && i + 1 < legs.len() {
+                if tt.link_rules.iter().any(|r| r.0 == a && r.1 == b && r.2 == TransferRule::Forbidden)
+                    && prev_ride.is_some()
+                    && i + 1 < legs.len()
+                {
                     return Err(at("a change along a link transfers.txt forbids (transfer_type 3)".into()));
                 }
                 if strict {
                     for step in &leg.pathways {
-                        let pw = tt.pathways.iter().find(|pw| pw.id == step.pathway_id && tt.stop(pw.from).feed == sa.feed).ok_or_else(|| at(format!("pathway {} is not in the feed", step.pathway_id)))?;
+                        let pw = tt
+                            .pathways
+                            .iter()
+                            .find(|pw| pw.id == step.pathway_id && tt.stop(pw.from).feed == sa.feed)
+                            .ok_or_else(|| at(format!("pathway {} is not in the feed", step.pathway_id)))?;
                         if matches!(pw.mode, PathwayMode::Stairs | PathwayMode::Escalator) {
                             return Err(at(format!("step-free walk uses pathway {} ({:?})", pw.id, pw.mode)));
                         }
@@ -167,7 +196,12 @@ pub fn replay(tt: &Timetable, date: NaiveDate, query_s: u32, p: &Params, from: &
                         }
                     }
                 }
-                let (t, e, f) = found.ok_or_else(|| at(format!("no trip {trip_id} running around {date} leaves {} at {} and reaches {} at {}", leg.start.stop_id, leg.depart_s, leg.end.stop_id, leg.arrive_s)))?;
+                let (t, e, f) = found.ok_or_else(|| {
+                    at(format!(
+                        "no trip {trip_id} running around {date} leaves {} at {} and reaches {} at {}",
+                        leg.start.stop_id, leg.depart_s, leg.end.stop_id, leg.arrive_s
+                    ))
+                })?;
                 if tt.ev_flags[e] & NO_PICKUP != 0 {
                     return Err(at("boards where pickup_type is 1 (no pickup)".into()));
                 }
@@ -184,7 +218,11 @@ pub fn replay(tt: &Timetable, date: NaiveDate, query_s: u32, p: &Params, from: &
                     }
                     for s in [a, b] {
                         if wheelchair_of(tt, s) != Access::Yes {
-                            return Err(at(format!("step-free ride boards or alights at {} with wheelchair_boarding {:?} (after inheritance)", tt.stop(s).id, wheelchair_of(tt, s))));
+                            return Err(at(format!(
+                                "step-free ride boards or alights at {} with wheelchair_boarding {:?} (after inheritance)",
+                                tt.stop(s).id,
+                                wheelchair_of(tt, s)
+                            )));
                         }
                     }
                 }

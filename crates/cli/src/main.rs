@@ -28,11 +28,11 @@ enum StepFreeArg {
 }
 
 fn step_free_of(a: Option<StepFreeArg>) -> StepFree {
-        match a {
-            None => StepFree::Off,
-            Some(StepFreeArg::Strict) => StepFree::Strict,
-            Some(StepFreeArg::Lenient) => StepFree::Lenient,
-        }
+    match a {
+        None => StepFree::Off,
+        Some(StepFreeArg::Strict) => StepFree::Strict,
+        Some(StepFreeArg::Lenient) => StepFree::Lenient,
+    }
 }
 
 #[derive(clap::Args)]
@@ -200,7 +200,21 @@ fn json<T: serde::Serialize>(v: &T) -> Result<(), String> {
 
 fn run(cli: Cli) -> Result<(), String> {
     match cli.command {
-        Command::Plan { feeds, from, to, date, at, step_free, next, walk_limit, walking_speed, change_penalty, max_duration, fewest_rides, json: as_json } => {
+        Command::Plan {
+            feeds,
+            from,
+            to,
+            date,
+            at,
+            step_free,
+            next,
+            walk_limit,
+            walking_speed,
+            change_penalty,
+            max_duration,
+            fewest_rides,
+            json: as_json,
+        } => {
             let mut engine = load(&feeds.feeds, as_json)?;
             let q = PlanQuery {
                 from,
@@ -237,8 +251,17 @@ fn run(cli: Cli) -> Result<(), String> {
                 });
             }
             for h in hits {
-                let extra = [h.platform.as_ref().map(|p| format!("platform {p}")), h.station.as_ref().map(|s| format!("in {s}"))].into_iter().flatten().collect::<Vec<_>>().join(", ");
-                println!("{:<24} {}{}", format!("{}:{}", h.feed, h.id), h.name, if extra.is_empty() { String::new() } else { format!(" ({extra})") });
+                let extra = [h.platform.as_ref().map(|p| format!("platform {p}")), h.station.as_ref().map(|s| format!("in {s}"))]
+                    .into_iter()
+                    .flatten()
+                    .collect::<Vec<_>>()
+                    .join(", ");
+                println!(
+                    "{:<24} {}{}",
+                    format!("{}:{}", h.feed, h.id),
+                    h.name,
+                    if extra.is_empty() { String::new() } else { format!(" ({extra})") }
+                );
             }
             Ok(())
         }
@@ -261,7 +284,17 @@ fn run(cli: Cli) -> Result<(), String> {
                 return json(&engine.tt.feeds);
             }
             for f in &engine.tt.feeds {
-                println!("{}: {} stops, {} routes, {} trips, {} stop events, {} to {}, time zone {}", f.name, f.stops, f.routes, f.trips, f.stop_events, opt(f.first_date), opt(f.last_date), f.timezone.name());
+                println!(
+                    "{}: {} stops, {} routes, {} trips, {} stop events, {} to {}, time zone {}",
+                    f.name,
+                    f.stops,
+                    f.routes,
+                    f.trips,
+                    f.stop_events,
+                    opt(f.first_date),
+                    opt(f.last_date),
+                    f.timezone.name()
+                );
                 for w in &f.warnings.issues {
                     println!("  warning: {w}");
                 }
@@ -273,8 +306,17 @@ fn run(cli: Cli) -> Result<(), String> {
         }
         Command::Synth { preset, seed, out } => {
             let preset: timeweave_synth::Preset = preset.parse().map_err(|e| format!("error: {e}"))?;
-            let stats = timeweave_disk::write_atomically(&out, |w| timeweave_synth::write_feed(preset, seed, w)).map_err(|e| format!("error: cannot write {}: {e}", out.display()))?;
-            println!("{}: {} stops, {} routes, {} trips, {} stop times, {} bytes", out.display(), stats.stops, stats.routes, stats.trips, stats.stop_times, stats.bytes);
+            let stats = timeweave_disk::write_atomically(&out, |w| timeweave_synth::write_feed(preset, seed, w))
+                .map_err(|e| format!("error: cannot write {}: {e}", out.display()))?;
+            println!(
+                "{}: {} stops, {} routes, {} trips, {} stop times, {} bytes",
+                out.display(),
+                stats.stops,
+                stats.routes,
+                stats.trips,
+                stats.stop_times,
+                stats.bytes
+            );
             Ok(())
         }
         Command::Serve { port, root, feeds } => timeweave_serve::serve(&root, port, &feeds).map_err(|e| format!("error: {e}")),

@@ -56,7 +56,10 @@ fn case_a_standard_and_step_free_differ_by_the_trips_wheelchair_accessible() {
     // The check is data (element, GTFS field, value) with its words beside it.
     let checks = r["step_free"]["checks"].as_array().expect("checks");
     let trip = checks.iter().find(|c| c["element"] == "trip").expect("a trip check");
-    assert_eq!((trip["trip_id"].as_str(), trip["wheelchair_accessible"].as_str(), trip["verdict"].as_str()), (Some("R1_WKD_0_0754"), Some("no"), Some("no")));
+    assert_eq!(
+        (trip["trip_id"].as_str(), trip["wheelchair_accessible"].as_str(), trip["verdict"].as_str()),
+        (Some("R1_WKD_0_0754"), Some("no"), Some("no"))
+    );
     let text = trip["text"].as_str().expect("text");
     assert!(text.contains("R1_WKD_0_0754") && text.contains("wheelchair_accessible") && text.contains("(2)"), "{text}");
     assert!(standard["step_free_extra_s"].is_null());
@@ -80,7 +83,10 @@ fn case_a_standard_and_step_free_differ_by_the_trips_wheelchair_accessible() {
     assert_eq!(it["step_free"], "unknown");
     assert_eq!(lenient["step_free_extra_s"], 1800);
     let notes = lenient["notes"].as_array().expect("notes");
-    assert!(notes.iter().any(|n| n["code"] == "lenient_unknown_used" && n["text"].is_string()), "lenient results relying on unknown values are flagged: {notes:?}");
+    assert!(
+        notes.iter().any(|n| n["code"] == "lenient_unknown_used" && n["text"].is_string()),
+        "lenient results relying on unknown values are flagged: {notes:?}"
+    );
     assert!(lenient["caution"].as_str().is_some_and(|c| c.contains("Confirm on site")), "step-free JSON carries the caution");
 }
 
@@ -101,20 +107,75 @@ fn json_output_has_the_documented_fields() {
     let r = cli_json(&[]);
     // DEVELOPERS.md, "The result shape".
     has_all(&r, &["asked", "journeys", "nothing_found", "step_free_extra_s", "fewest_rides", "notes"]);
-    has_all(&r["asked"], &["from", "to", "date", "time", "step_free", "walk_limit_m", "walking_speed_mps", "change_penalty_s", "max_duration_s", "next", "fewest_rides"]);
-    assert_eq!((r["asked"]["date"].as_str(), r["asked"]["time"].as_str(), r["asked"]["step_free"].as_str()), (Some("2026-12-02"), Some("08:00"), Some("off")));
+    has_all(
+        &r["asked"],
+        &[
+            "from",
+            "to",
+            "date",
+            "time",
+            "step_free",
+            "walk_limit_m",
+            "walking_speed_mps",
+            "change_penalty_s",
+            "max_duration_s",
+            "next",
+            "fewest_rides",
+        ],
+    );
+    assert_eq!(
+        (r["asked"]["date"].as_str(), r["asked"]["time"].as_str(), r["asked"]["step_free"].as_str()),
+        (Some("2026-12-02"), Some("08:00"), Some("off"))
+    );
     assert!(r["nothing_found"].is_null());
     let its = r["journeys"].as_array().expect("journeys");
     assert!(!its.is_empty() && its.len() <= 3, "the CLI asks for 3 options by default");
     for it in its {
-        has_all(it, &["depart_s", "arrive_s", "depart", "arrive", "duration_s", "rides", "ride_s", "walk_s", "wait_s", "cost_s", "step_free", "legs"]);
+        has_all(
+            it,
+            &[
+                "depart_s",
+                "arrive_s",
+                "depart",
+                "arrive",
+                "duration_s",
+                "rides",
+                "ride_s",
+                "walk_s",
+                "wait_s",
+                "cost_s",
+                "step_free",
+                "legs",
+            ],
+        );
         let (d, a) = (it["depart_s"].as_u64().expect("depart_s"), it["arrive_s"].as_u64().expect("arrive_s"));
         assert_eq!(it["duration_s"].as_u64(), Some(a - d));
         // Where the time goes adds up to the whole journey (DEVELOPERS.md, the result shape).
         let split = ["ride_s", "walk_s", "wait_s"].iter().map(|k| it[*k].as_u64().expect("seconds")).sum::<u64>();
         assert_eq!(split, a - d, "{it}");
         for leg in it["legs"].as_array().expect("legs") {
-            has_all(leg, &["kind", "start", "end", "depart_s", "arrive_s", "depart", "arrive", "duration_s", "wait_before_s", "route", "trip_id", "headsign", "frequency_based", "calls", "distance_m", "pathways", "step_free"]);
+            has_all(
+                leg,
+                &[
+                    "kind",
+                    "start",
+                    "end",
+                    "depart_s",
+                    "arrive_s",
+                    "depart",
+                    "arrive",
+                    "duration_s",
+                    "wait_before_s",
+                    "route",
+                    "trip_id",
+                    "headsign",
+                    "frequency_based",
+                    "calls",
+                    "distance_m",
+                    "pathways",
+                    "step_free",
+                ],
+            );
             has_all(&leg["step_free"], &["status", "checks"]);
             for check in leg["step_free"]["checks"].as_array().expect("checks") {
                 has_all(check, &["element", "verdict", "text"]);
@@ -145,7 +206,6 @@ fn step_free_text_output_carries_the_caution() {
     assert!(out.contains("may be incomplete or out of date") && out.contains("Confirm on site"), "{out}");
     assert!(out.contains("60 min later"), "{out}");
 }
-
 
 #[test]
 fn an_unknown_stop_name_fails_with_suggestions() {

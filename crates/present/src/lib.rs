@@ -40,7 +40,9 @@ fn role_word(r: StopRole) -> &'static str {
 /// One step-free check in words, naming the element and the feed's value.
 pub fn check_text(c: &Check) -> String {
     match &c.fact {
-        Fact::Trip { trip_id, wheelchair_accessible } => format!("trip {trip_id}: wheelchair_accessible {}", access_words(*wheelchair_accessible)),
+        Fact::Trip { trip_id, wheelchair_accessible } => {
+            format!("trip {trip_id}: wheelchair_accessible {}", access_words(*wheelchair_accessible))
+        }
         Fact::Stop { role, stop_id, name, wheelchair_boarding, inherited_from } => {
             let how = inherited_from.as_ref().map(|s| format!(" (inherited from station {s})")).unwrap_or_default();
             format!("{} stop {name} ({stop_id}): wheelchair_boarding {}{how}", role_word(*role), access_words(*wheelchair_boarding))
@@ -73,7 +75,9 @@ pub fn blocked_text(b: &Blocked) -> String {
 /// Why there is no journey, in one sentence.
 pub fn nothing_found_text(n: &NoJourney) -> String {
     match n {
-        NoJourney::OutsideFeedDates { date, first_date, last_date } => format!("{date} is outside the dates the loaded feeds cover ({first_date} to {last_date})."),
+        NoJourney::OutsideFeedDates { date, first_date, last_date } => {
+            format!("{date} is outside the dates the loaded feeds cover ({first_date} to {last_date}).")
+        }
         NoJourney::NoServiceOnDate { date } => format!("No trip of the loaded feeds runs on {date}."),
         NoJourney::NoStepFreePath { standard_depart, standard_arrive, .. } => {
             format!("No step-free journey found. The standard journey (leaving {standard_depart}, arriving {standard_arrive}) uses elements that are not step-free.")
@@ -151,18 +155,45 @@ fn leg_lines(out: &mut String, leg: &Leg, step_free: bool) {
                 let _ = writeln!(out, "  wait {} min, then", leg.wait_before_s / 60);
             }
             let towards = leg.headsign.as_deref().map(|h| format!("towards {h}")).unwrap_or_default();
-            let between = if leg.calls.is_empty() { String::new() } else { format!("({} between)", plural(leg.calls.len() as u32, "stop", "stops")) };
+            let between =
+                if leg.calls.is_empty() { String::new() } else { format!("({} between)", plural(leg.calls.len() as u32, "stop", "stops")) };
             let estimate = if leg.frequency_based { " [frequency-based: times are estimates]" } else { "" };
-            let _ = writeln!(out, "  {} {} {} {} → {} {}  {towards} {between}{estimate}", leg.depart, stop_words(&leg.start), route.mode, route.short_name, leg.arrive, stop_words(&leg.end));
+            let _ = writeln!(
+                out,
+                "  {} {} {} {} → {} {}  {towards} {between}{estimate}",
+                leg.depart,
+                stop_words(&leg.start),
+                route.mode,
+                route.short_name,
+                leg.arrive,
+                stop_words(&leg.end)
+            );
         }
         None => {
             let verb = if leg.kind == LegKind::InStation { "change on foot" } else { "walk" };
-            let how = if leg.pathways.is_empty() { String::new() } else { format!(" via {}", leg.pathways.iter().map(|p| p.pathway_mode.as_str()).collect::<Vec<_>>().join(", ")) };
-            let _ = writeln!(out, "  {} {verb} {} min {} → {}{}{how}", leg.depart, minutes(leg.duration_s), stop_words(&leg.start), stop_words(&leg.end), leg.distance_m.map(|d| format!(", {d} m")).unwrap_or_default());
+            let how = if leg.pathways.is_empty() {
+                String::new()
+            } else {
+                format!(" via {}", leg.pathways.iter().map(|p| p.pathway_mode.as_str()).collect::<Vec<_>>().join(", "))
+            };
+            let _ = writeln!(
+                out,
+                "  {} {verb} {} min {} → {}{}{how}",
+                leg.depart,
+                minutes(leg.duration_s),
+                stop_words(&leg.start),
+                stop_words(&leg.end),
+                leg.distance_m.map(|d| format!(", {d} m")).unwrap_or_default()
+            );
         }
     }
     if step_free {
-        let _ = writeln!(out, "      step-free: {} — {}", status_word(leg.step_free.status), leg.step_free.checks.iter().map(check_text).collect::<Vec<_>>().join("; "));
+        let _ = writeln!(
+            out,
+            "      step-free: {} — {}",
+            status_word(leg.step_free.status),
+            leg.step_free.checks.iter().map(check_text).collect::<Vec<_>>().join("; ")
+        );
     }
 }
 
@@ -217,7 +248,12 @@ pub fn plan_text(r: &PlanResult) -> String {
         }
     }
     if let Some(x) = r.step_free_extra_s {
-        let _ = writeln!(out, "\nThe step-free journey arrives {} min {} than the standard one.", x.abs() / 60, if x >= 0 { "later" } else { "earlier" });
+        let _ = writeln!(
+            out,
+            "\nThe step-free journey arrives {} min {} than the standard one.",
+            x.abs() / 60,
+            if x >= 0 { "later" } else { "earlier" }
+        );
     }
     if q.step_free != StepFree::Off {
         let _ = writeln!(out, "\nCaution: {CAUTION}");

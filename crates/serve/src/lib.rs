@@ -109,7 +109,11 @@ fn header(name: &str, value: &str) -> Header {
 
 fn handle(request: Request, site: &Site) -> io::Result<()> {
     let common = [("Cache-Control", "no-cache"), ("X-Content-Type-Options", "nosniff"), ("Referrer-Policy", "no-referrer")];
-    let text = |status: u16, why: &str| Response::from_string(format!("{status}: {why}\n")).with_status_code(StatusCode(status)).with_header(header("Content-Type", "text/plain; charset=utf-8"));
+    let text = |status: u16, why: &str| {
+        Response::from_string(format!("{status}: {why}\n"))
+            .with_status_code(StatusCode(status))
+            .with_header(header("Content-Type", "text/plain; charset=utf-8"))
+    };
     if !matches!(request.method(), Method::Get | Method::Head) {
         let mut r = text(405, "only GET and HEAD are served").with_header(header("Allow", "GET, HEAD"));
         common.iter().for_each(|(n, v)| r.add_header(header(n, v)));
@@ -119,7 +123,8 @@ fn handle(request: Request, site: &Site) -> io::Result<()> {
         Err(Refusal::BadRequest(why)) => Err(text(400, why)),
         Err(Refusal::NotFound) => Err(text(404, "no such file")),
         Ok(Target::FeedIndex) => {
-            let mut r = Response::from_string(site.feed_index.clone().unwrap_or_default()).with_header(header("Content-Type", "application/json"));
+            let mut r =
+                Response::from_string(site.feed_index.clone().unwrap_or_default()).with_header(header("Content-Type", "application/json"));
             common.iter().for_each(|(n, v)| r.add_header(header(n, v)));
             return request.respond(r);
         }
@@ -275,11 +280,7 @@ mod tests {
             "/./index.html",
             "/C:%5cwindows",
         ] {
-            assert!(
-                matches!(resolve(bad, &s), Err(Refusal::BadRequest(_))),
-                "{bad} should be refused, got {:?}",
-                resolve(bad, &s)
-            );
+            assert!(matches!(resolve(bad, &s), Err(Refusal::BadRequest(_))), "{bad} should be refused, got {:?}", resolve(bad, &s));
         }
         assert_eq!(resolve("/.git/config", &s), Err(Refusal::NotFound));
     }

@@ -74,11 +74,7 @@ pub struct UnknownPreset(pub String);
 
 impl fmt::Display for UnknownPreset {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(
-            f,
-            "unknown preset \"{}\": expected small, region or metro",
-            self.0
-        )
+        write!(f, "unknown preset \"{}\": expected small, region or metro", self.0)
     }
 }
 
@@ -116,18 +112,10 @@ pub struct SynthStats {
 /// Files: agency, stops, routes, trips, stop_times, calendar, calendar_dates, feed_info, transfers,
 /// levels, pathways, shapes. The feed is valid from 2026-01-01 to 2027-12-31 in the agency time
 /// zone `Etc/GMT-1`; all names are generated and belong to no real place.
-pub fn write_feed<W: Write + Seek>(
-    preset: Preset,
-    seed: u64,
-    mut out: W,
-) -> io::Result<SynthStats> {
+pub fn write_feed<W: Write + Seek>(preset: Preset, seed: u64, mut out: W) -> io::Result<SynthStats> {
     let start = out.stream_position()?;
     let net = Network::build(preset, seed);
-    let mut stats = SynthStats {
-        stops: net.stops.len(),
-        routes: net.lines.len(),
-        ..Default::default()
-    };
+    let mut stats = SynthStats { stops: net.stops.len(), routes: net.lines.len(), ..Default::default() };
 
     let opts = SimpleFileOptions::default()
         .compression_method(CompressionMethod::Deflated)
@@ -136,11 +124,7 @@ pub fn write_feed<W: Write + Seek>(
         .unix_permissions(0o644)
         .system(System::Unix)
         .large_file(false);
-    let mut w = CsvZip {
-        zip: ZipWriter::new(out),
-        buf: Vec::with_capacity(FLUSH_AT + 1024),
-        opts,
-    };
+    let mut w = CsvZip { zip: ZipWriter::new(out), buf: Vec::with_capacity(FLUSH_AT + 1024), opts };
 
     net.write_agency(&mut w)?;
     net.write_stops(&mut w)?;
@@ -164,8 +148,7 @@ pub fn write_feed<W: Write + Seek>(
 
 /// The fixed last-modified time of every zip entry.
 fn feed_timestamp() -> DateTime {
-    DateTime::from_date_and_time(2026, 1, 1, 0, 0, 0)
-        .expect("2026-01-01 00:00:00 is a valid zip time")
+    DateTime::from_date_and_time(2026, 1, 1, 0, 0, 0).expect("2026-01-01 00:00:00 is a valid zip time")
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -340,10 +323,7 @@ const M_PER_DEG_LON: f64 = 68_535.4;
 
 /// Latitude and longitude in millionths of a degree.
 fn micro_lat_lon(p: Pt) -> (i64, i64) {
-    (
-        CENTRE_LAT_MICRO + (p.y / M_PER_DEG_LAT * 1e6).round() as i64,
-        CENTRE_LON_MICRO + (p.x / M_PER_DEG_LON * 1e6).round() as i64,
-    )
+    (CENTRE_LAT_MICRO + (p.y / M_PER_DEG_LAT * 1e6).round() as i64, CENTRE_LON_MICRO + (p.x / M_PER_DEG_LON * 1e6).round() as i64)
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -581,10 +561,7 @@ impl Spec {
                 metro_radials: 9,
                 metro_extent: 13_000.0,
                 metro_spacing: 900.0,
-                heavy_rings: &[
-                    (Mode::Rail, 7_000.0, 1_400.0),
-                    (Mode::Metro, 4_000.0, 800.0),
-                ],
+                heavy_rings: &[(Mode::Rail, 7_000.0, 1_400.0), (Mode::Metro, 4_000.0, 800.0)],
                 tram_radials: 12,
                 tram_extent: 9_000.0,
                 tram_spacing: 450.0,
@@ -606,14 +583,13 @@ struct Namer {
 }
 
 const SYLLABLES: &[&str] = &[
-    "ka", "vel", "mor", "ith", "sa", "lun", "dre", "ob", "tar", "wyn", "ez", "qui", "ran", "fo",
-    "hal", "ny", "pel", "shar", "ust", "vo", "bri", "cal", "dun", "eth", "gro", "ivo", "jal",
-    "kor", "lem", "nad", "oru", "pry", "rim", "sol", "tev", "ura", "wex", "yal", "zim", "ard",
-    "fir", "quen", "thal",
+    "ka", "vel", "mor", "ith", "sa", "lun", "dre", "ob", "tar", "wyn", "ez", "qui", "ran", "fo", "hal", "ny", "pel", "shar", "ust", "vo",
+    "bri", "cal", "dun", "eth", "gro", "ivo", "jal", "kor", "lem", "nad", "oru", "pry", "rim", "sol", "tev", "ura", "wex", "yal", "zim",
+    "ard", "fir", "quen", "thal",
 ];
 const SUFFIXES: &[&str] = &[
-    "Street", "Square", "Park", "Gate", "Market", "Hill", "Bridge", "Lane", "Cross", "Yard",
-    "Fields", "Wharf", "Common", "Row", "Green", "Terrace", "Mill", "Court", "Avenue", "Place",
+    "Street", "Square", "Park", "Gate", "Market", "Hill", "Bridge", "Lane", "Cross", "Yard", "Fields", "Wharf", "Common", "Row", "Green",
+    "Terrace", "Mill", "Court", "Avenue", "Place",
 ];
 
 impl Namer {
@@ -633,18 +609,9 @@ impl Namer {
             let n = if self.rng.chance(0.7) { 2 } else { 3 };
             let w = self.word(n);
             let name = if attempt < 20 {
-                format!(
-                    "{} {}",
-                    w,
-                    SUFFIXES[self.rng.below(SUFFIXES.len() as u64) as usize]
-                )
+                format!("{} {}", w, SUFFIXES[self.rng.below(SUFFIXES.len() as u64) as usize])
             } else {
-                format!(
-                    "{} {} {}",
-                    w,
-                    self.word(2),
-                    SUFFIXES[self.rng.below(SUFFIXES.len() as u64) as usize]
-                )
+                format!("{} {} {}", w, self.word(2), SUFFIXES[self.rng.below(SUFFIXES.len() as u64) as usize])
             };
             if self.used.insert(name.clone()) {
                 return name;
@@ -678,11 +645,7 @@ const BANDS: [&[Band]; 3] = [
         (hm(19, 0), hm(21, 0), 1.6, false),
         (hm(21, 0), hm(24, 30), 2.5, false),
     ],
-    &[
-        (hm(6, 0), hm(10, 0), 2.0, false),
-        (hm(10, 0), hm(19, 0), 1.5, false),
-        (hm(19, 0), hm(24, 30), 2.5, false),
-    ],
+    &[(hm(6, 0), hm(10, 0), 2.0, false), (hm(10, 0), hm(19, 0), 1.5, false), (hm(19, 0), hm(24, 30), 2.5, false)],
 ];
 
 /// Headway in whole minutes, 2 to 60 minutes.
@@ -733,10 +696,7 @@ impl Network {
         let preset_key = preset as u64 + 1;
         let mut b = Builder {
             rng: SplitMix64(mix64(seed ^ mix64(preset_key))),
-            names: Namer {
-                rng: SplitMix64(mix64(seed ^ mix64(preset_key + 100))),
-                used: HashSet::new(),
-            },
+            names: Namer { rng: SplitMix64(mix64(seed ^ mix64(preset_key + 100))), used: HashSet::new() },
             nodes: Vec::new(),
             lines: Vec::new(),
         };
@@ -765,10 +725,7 @@ impl Network {
 
     /// One timetable's counts at a headway factor.
     fn counts(&self, factor: f64) -> Counts {
-        let mut c = Counts {
-            trips: 0,
-            stop_times: 0,
-        };
+        let mut c = Counts { trips: 0, stop_times: 0 };
         for line in &self.lines {
             for svc in 0..SERVICES.len() {
                 for dir in 0..2 {
@@ -819,14 +776,8 @@ impl Network {
             match group {
                 Group::Heavy if nlines >= 2 => {
                     let index = self.stations.len() as u32;
-                    let design = [
-                        StepFree::Full,
-                        StepFree::Partial,
-                        StepFree::None,
-                        StepFree::Full,
-                        StepFree::Full,
-                        StepFree::Partial,
-                    ][index as usize % 6];
+                    let design = [StepFree::Full, StepFree::Partial, StepFree::None, StepFree::Full, StepFree::Full, StepFree::Partial]
+                        [index as usize % 6];
                     let parent = self.add_stop(Stop {
                         name: name.clone(),
                         code: None,
@@ -891,13 +842,7 @@ impl Network {
                         level: Some((index, 1)),
                         platform_code: None,
                     });
-                    self.stations.push(Station {
-                        platforms,
-                        entrances,
-                        concourse,
-                        design,
-                        index,
-                    });
+                    self.stations.push(Station { platforms, entrances, concourse, design, index });
                     self.nodes[ni].station = Some(index);
                 }
                 Group::Heavy | Group::Tram => {
@@ -919,11 +864,7 @@ impl Network {
                     };
                     self.add_stop(Stop {
                         name,
-                        code: if group == Group::Tram {
-                            Some(10_000 + self.stops.len() as u32)
-                        } else {
-                            None
-                        },
+                        code: if group == Group::Tram { Some(10_000 + self.stops.len() as u32) } else { None },
                         p,
                         location_type: 0,
                         parent: None,
@@ -964,11 +905,7 @@ impl Network {
         let n = &self.nodes[node as usize];
         match (n.group, n.station) {
             (Group::Heavy, Some(st)) => {
-                let k = n
-                    .lines
-                    .iter()
-                    .position(|&l| l == line)
-                    .expect("line passes its own nodes");
+                let k = n.lines.iter().position(|&l| l == line).expect("line passes its own nodes");
                 self.stations[st as usize].platforms[k]
             }
             (Group::Bus, _) => {
@@ -1002,9 +939,7 @@ impl Network {
                 }
                 let mut hops = vec![0u32; stops.len()];
                 for i in 1..stops.len() {
-                    let d = self.stops[stops[i - 1] as usize]
-                        .p
-                        .dist(self.stops[stops[i] as usize].p);
+                    let d = self.stops[stops[i - 1] as usize].p.dist(self.stops[stops[i] as usize].p);
                     hops[i] = mode.hop_s(d);
                 }
                 self.lines[li].stops[dir] = stops;
@@ -1030,9 +965,7 @@ impl Network {
                 Mode::Bus => format!("{}", 99 + n),
             };
             let first = &self.stops[self.lines[li].stops[0][0] as usize].name;
-            let last = &self.stops
-                [*self.lines[li].stops[0].last().expect("non-empty pattern") as usize]
-                .name;
+            let last = &self.stops[*self.lines[li].stops[0].last().expect("non-empty pattern") as usize].name;
             let (long, heads) = if self.lines[li].shape == LineShape::Ring {
                 let adj = ring_names[rings_seen[mi].min(ring_names.len() - 1)];
                 rings_seen[mi] += 1;
@@ -1043,10 +976,7 @@ impl Network {
                     Mode::Bus => "Bus",
                 };
                 let long = format!("{adj} {mode_word} Ring");
-                (
-                    long.clone(),
-                    [format!("{long} anticlockwise"), format!("{long} clockwise")],
-                )
+                (long.clone(), [format!("{long} anticlockwise"), format!("{long} clockwise")])
             } else {
                 (format!("{first} - {last}"), [last.clone(), first.clone()])
             };
@@ -1069,11 +999,7 @@ impl Network {
             line.text_color = text_color_for(color);
             line.agency = if mode == Mode::Rail { "A2" } else { "A1" };
             line.sort_order = (mi as u32 + 1) * 1000 + n;
-            line.low_floor_share = if mode == Mode::Tram {
-                [1.0, 0.7, 0.4][n as usize % 3]
-            } else {
-                1.0
-            };
+            line.low_floor_share = if mode == Mode::Tram { [1.0, 0.7, 0.4][n as usize % 3] } else { 1.0 };
         }
     }
 
@@ -1087,15 +1013,7 @@ impl Network {
             };
             let [ea, eb] = st.entrances;
             let c = st.concourse;
-            let mut add = |from,
-                           to,
-                           mode,
-                           bidirectional,
-                           length_dm,
-                           traversal_s,
-                           stair_count,
-                           sign,
-                           rsign| {
+            let mut add = |from, to, mode, bidirectional, length_dm, traversal_s, stair_count, sign, rsign| {
                 self.pathways.push(Pathway {
                     from,
                     to,
@@ -1104,11 +1022,7 @@ impl Network {
                     length_dm,
                     traversal_s,
                     stair_count,
-                    min_width_cm: if mode == 1 || mode == 3 {
-                        Some(240)
-                    } else {
-                        None
-                    },
+                    min_width_cm: if mode == 1 || mode == 3 { Some(240) } else { None },
                     signposted_as: sign,
                     reversed_signposted_as: rsign,
                 });
@@ -1133,30 +1047,10 @@ impl Network {
                     let length_dm = (rng.range(40.0, 90.0) * 10.0).round() as u32;
                     if elevator_to(k) && elevator_to(k + 1) {
                         let mode = if st.index == 0 && k == 0 { 3 } else { 1 };
-                        add(
-                            pf,
-                            next,
-                            mode,
-                            true,
-                            length_dm,
-                            length_dm / 11 + 1,
-                            None,
-                            "Other platforms",
-                            "Other platforms",
-                        );
+                        add(pf, next, mode, true, length_dm, length_dm / 11 + 1, None, "Other platforms", "Other platforms");
                     } else {
                         // A footbridge: up and down again, so no net stair count.
-                        add(
-                            pf,
-                            next,
-                            2,
-                            true,
-                            length_dm,
-                            length_dm / 8 + 20,
-                            None,
-                            "Other platforms",
-                            "Other platforms",
-                        );
+                        add(pf, next, 2, true, length_dm, length_dm / 8 + 20, None, "Other platforms", "Other platforms");
                     }
                 }
             }
@@ -1169,27 +1063,12 @@ impl Network {
         for st in self.stations.iter().take(8) {
             if st.platforms.len() >= 2 {
                 let min_s = 120 + 60 * (st.index % 4);
-                self.transfers.push(Transfer {
-                    from: st.platforms[0],
-                    to: st.platforms[1],
-                    kind: 2,
-                    min_s: Some(min_s),
-                });
-                self.transfers.push(Transfer {
-                    from: st.platforms[1],
-                    to: st.platforms[0],
-                    kind: 2,
-                    min_s: Some(min_s),
-                });
+                self.transfers.push(Transfer { from: st.platforms[0], to: st.platforms[1], kind: 2, min_s: Some(min_s) });
+                self.transfers.push(Transfer { from: st.platforms[1], to: st.platforms[0], kind: 2, min_s: Some(min_s) });
             }
         }
         if let Some(st) = self.stations.first().filter(|st| st.platforms.len() >= 3) {
-            self.transfers.push(Transfer {
-                from: st.platforms[0],
-                to: st.platforms[2],
-                kind: 0,
-                min_s: None,
-            });
+            self.transfers.push(Transfer { from: st.platforms[0], to: st.platforms[2], kind: 0, min_s: None });
         }
         for (k, &(hub_node, feeder)) in feeder_hubs.iter().take(3).enumerate() {
             let hub = self.nodes[hub_node as usize].first_stop;
@@ -1199,36 +1078,18 @@ impl Network {
                 1 => (1, None),
                 _ => (2, Some(240)),
             };
-            self.transfers.push(Transfer {
-                from: hub,
-                to: bus,
-                kind,
-                min_s,
-            });
-            self.transfers.push(Transfer {
-                from: bus,
-                to: hub,
-                kind,
-                min_s,
-            });
+            self.transfers.push(Transfer { from: hub, to: bus, kind, min_s });
+            self.transfers.push(Transfer { from: bus, to: hub, kind, min_s });
         }
     }
 
     // --- writers -------------------------------------------------------------------------------
 
     fn write_agency<W: Write + Seek>(&self, w: &mut CsvZip<W>) -> io::Result<()> {
-        w.file(
-            "agency.txt",
-            "agency_id,agency_name,agency_url,agency_timezone,agency_lang,agency_phone",
-        )?;
+        w.file("agency.txt", "agency_id,agency_name,agency_url,agency_timezone,agency_lang,agency_phone")?;
         let host = self.city.to_ascii_lowercase();
-        for (id, suffix, sub, phone) in [
-            ("A1", "Transit", "transit", "+00 100 0001"),
-            ("A2", "Regional Rail", "rail", "+00 100 0002"),
-        ] {
-            w.text(id)
-                .text(&format!("{} {}", self.city, suffix))
-                .text(&format!("https://{sub}.{host}.invalid/"));
+        for (id, suffix, sub, phone) in [("A1", "Transit", "transit", "+00 100 0001"), ("A2", "Regional Rail", "rail", "+00 100 0002")] {
+            w.text(id).text(&format!("{} {}", self.city, suffix)).text(&format!("https://{sub}.{host}.invalid/"));
             w.text("Etc/GMT-1").text("en").text(phone);
             w.end_row()?;
         }
@@ -1247,10 +1108,7 @@ impl Network {
                 Some(c) => w.uint(c as u64),
                 None => w.empty(),
             };
-            w.text(&s.name)
-                .fixed(lat, 6)
-                .fixed(lon, 6)
-                .uint(s.location_type as u64);
+            w.text(&s.name).fixed(lat, 6).fixed(lon, 6).uint(s.location_type as u64);
             match s.parent {
                 Some(p) => w.id(b"s", p as u64),
                 None => w.empty(),
@@ -1279,11 +1137,7 @@ impl Network {
             "route_id,agency_id,route_short_name,route_long_name,route_type,route_color,route_text_color,route_sort_order",
         )?;
         for (i, l) in self.lines.iter().enumerate() {
-            w.id(b"r", i as u64)
-                .text(l.agency)
-                .text(&l.short_name)
-                .text(&l.long_name)
-                .uint(l.mode.route_type() as u64);
+            w.id(b"r", i as u64).text(l.agency).text(&l.short_name).text(&l.long_name).uint(l.mode.route_type() as u64);
             w.hex(l.color).hex(l.text_color).uint(l.sort_order as u64);
             w.end_row()?;
         }
@@ -1291,10 +1145,7 @@ impl Network {
     }
 
     /// Calls `f(line, service, dir, trip number, departure, peak)` for every trip in file order.
-    fn for_each_trip(
-        &self,
-        mut f: impl FnMut(usize, usize, usize, u64, u32, bool) -> io::Result<()>,
-    ) -> io::Result<u64> {
+    fn for_each_trip(&self, mut f: impl FnMut(usize, usize, usize, u64, u32, bool) -> io::Result<()>) -> io::Result<u64> {
         let mut n = 0u64;
         for (li, line) in self.lines.iter().enumerate() {
             for svc in 0..SERVICES.len() {
@@ -1350,17 +1201,10 @@ impl Network {
     }
 
     fn write_trips<W: Write + Seek>(&self, w: &mut CsvZip<W>) -> io::Result<usize> {
-        w.file(
-            "trips.txt",
-            "route_id,service_id,trip_id,trip_headsign,direction_id,shape_id,wheelchair_accessible",
-        )?;
+        w.file("trips.txt", "route_id,service_id,trip_id,trip_headsign,direction_id,shape_id,wheelchair_accessible")?;
         let n = self.for_each_trip(|li, svc, dir, trip, _t0, _peak| {
             let line = &self.lines[li];
-            w.id(b"r", li as u64)
-                .text(SERVICES[svc])
-                .id(b"t", trip)
-                .text(&line.headsign[dir])
-                .uint(dir as u64);
+            w.id(b"r", li as u64).text(SERVICES[svc]).id(b"t", trip).text(&line.headsign[dir]).uint(dir as u64);
             w.shape_id(li, dir);
             match self.trip_wheelchair(line, trip) {
                 0 => w.empty(),
@@ -1372,38 +1216,19 @@ impl Network {
     }
 
     fn write_stop_times<W: Write + Seek>(&self, w: &mut CsvZip<W>) -> io::Result<usize> {
-        w.file(
-            "stop_times.txt",
-            "trip_id,arrival_time,departure_time,stop_id,stop_sequence",
-        )?;
+        w.file("stop_times.txt", "trip_id,arrival_time,departure_time,stop_id,stop_sequence")?;
         let mut rows = 0usize;
         self.for_each_trip(|li, _svc, dir, trip, t0, peak| {
             let line = &self.lines[li];
             let stops = &line.stops[dir];
             let hops = &line.hop_s[dir];
-            let permille = if peak {
-                line.mode.peak_permille()
-            } else {
-                1000
-            };
+            let permille = if peak { line.mode.peak_permille() } else { 1000 };
             let dwell = line.mode.dwell_s();
             let mut dep = t0;
             for i in 0..stops.len() {
-                let arr = if i == 0 {
-                    t0
-                } else {
-                    dep + (hops[i] * permille + 500) / 1000
-                };
-                dep = if i == 0 || i + 1 == stops.len() {
-                    arr
-                } else {
-                    arr + dwell
-                };
-                w.id(b"t", trip)
-                    .time(arr)
-                    .time(dep)
-                    .id(b"s", stops[i] as u64)
-                    .uint(i as u64 + 1);
+                let arr = if i == 0 { t0 } else { dep + (hops[i] * permille + 500) / 1000 };
+                dep = if i == 0 || i + 1 == stops.len() { arr } else { arr + dwell };
+                w.id(b"t", trip).time(arr).time(dep).id(b"s", stops[i] as u64).uint(i as u64 + 1);
                 w.end_row()?;
             }
             rows += stops.len();
@@ -1414,11 +1239,7 @@ impl Network {
 
     fn write_calendar<W: Write + Seek>(&self, w: &mut CsvZip<W>) -> io::Result<()> {
         w.file("calendar.txt", "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date")?;
-        for (svc, days) in [
-            ("WD", [1, 1, 1, 1, 1, 0, 0]),
-            ("SA", [0, 0, 0, 0, 0, 1, 0]),
-            ("SU", [0, 0, 0, 0, 0, 0, 1]),
-        ] {
+        for (svc, days) in [("WD", [1, 1, 1, 1, 1, 0, 0]), ("SA", [0, 0, 0, 0, 0, 1, 0]), ("SU", [0, 0, 0, 0, 0, 0, 1])] {
             w.text(svc);
             for d in days {
                 w.uint(d);
@@ -1451,31 +1272,17 @@ impl Network {
         w.end_row()
     }
 
-    fn write_feed_info<W: Write + Seek>(
-        &self,
-        w: &mut CsvZip<W>,
-        preset: Preset,
-        seed: u64,
-    ) -> io::Result<()> {
+    fn write_feed_info<W: Write + Seek>(&self, w: &mut CsvZip<W>, preset: Preset, seed: u64) -> io::Result<()> {
         w.file("feed_info.txt", "feed_publisher_name,feed_publisher_url,feed_lang,feed_start_date,feed_end_date,feed_version")?;
-        w.text("timeweave synthetic feeds")
-            .text("https://synth.timeweave.invalid/")
-            .text("en");
-        w.text(FEED_START)
-            .text(FEED_END)
-            .text(&format!("synth-{}-{}", preset.name(), seed));
+        w.text("timeweave synthetic feeds").text("https://synth.timeweave.invalid/").text("en");
+        w.text(FEED_START).text(FEED_END).text(&format!("synth-{}-{}", preset.name(), seed));
         w.end_row()
     }
 
     fn write_transfers<W: Write + Seek>(&self, w: &mut CsvZip<W>) -> io::Result<()> {
-        w.file(
-            "transfers.txt",
-            "from_stop_id,to_stop_id,transfer_type,min_transfer_time",
-        )?;
+        w.file("transfers.txt", "from_stop_id,to_stop_id,transfer_type,min_transfer_time")?;
         for t in &self.transfers {
-            w.id(b"s", t.from as u64)
-                .id(b"s", t.to as u64)
-                .uint(t.kind as u64);
+            w.id(b"s", t.from as u64).id(b"s", t.to as u64).uint(t.kind as u64);
             match t.min_s {
                 Some(s) => w.uint(s as u64),
                 None => w.empty(),
@@ -1488,10 +1295,7 @@ impl Network {
     fn write_levels<W: Write + Seek>(&self, w: &mut CsvZip<W>) -> io::Result<()> {
         w.file("levels.txt", "level_id,level_index,level_name")?;
         for st in &self.stations {
-            for (k, (index, name)) in [("0", "Street"), ("-1", "Concourse"), ("-2", "Platforms")]
-                .into_iter()
-                .enumerate()
-            {
+            for (k, (index, name)) in [("0", "Street"), ("-1", "Concourse"), ("-2", "Platforms")].into_iter().enumerate() {
                 w.level_id(st.index, k as u8).text(index).text(name);
                 w.end_row()?;
             }
@@ -1505,13 +1309,8 @@ impl Network {
             "pathway_id,from_stop_id,to_stop_id,pathway_mode,is_bidirectional,length,traversal_time,stair_count,min_width,signposted_as,reversed_signposted_as",
         )?;
         for (i, p) in self.pathways.iter().enumerate() {
-            w.id(b"pw", i as u64)
-                .id(b"s", p.from as u64)
-                .id(b"s", p.to as u64);
-            w.uint(p.mode as u64)
-                .uint(p.bidirectional as u64)
-                .fixed(p.length_dm as i64, 1)
-                .uint(p.traversal_s as u64);
+            w.id(b"pw", i as u64).id(b"s", p.from as u64).id(b"s", p.to as u64);
+            w.uint(p.mode as u64).uint(p.bidirectional as u64).fixed(p.length_dm as i64, 1).uint(p.traversal_s as u64);
             match p.stair_count {
                 Some(c) => w.int(c as i64),
                 None => w.empty(),
@@ -1527,10 +1326,7 @@ impl Network {
     }
 
     fn write_shapes<W: Write + Seek>(&self, w: &mut CsvZip<W>) -> io::Result<()> {
-        w.file(
-            "shapes.txt",
-            "shape_id,shape_pt_lat,shape_pt_lon,shape_pt_sequence,shape_dist_traveled",
-        )?;
+        w.file("shapes.txt", "shape_id,shape_pt_lat,shape_pt_lon,shape_pt_sequence,shape_dist_traveled")?;
         for (li, line) in self.lines.iter().enumerate() {
             for dir in 0..2 {
                 let mut dist = 0.0;
@@ -1543,10 +1339,7 @@ impl Network {
                     prev = Some(p);
                     let (lat, lon) = micro_lat_lon(p);
                     w.shape_id(li, dir);
-                    w.fixed(lat, 6)
-                        .fixed(lon, 6)
-                        .uint(i as u64 + 1)
-                        .fixed((dist * 10.0).round() as i64, 1);
+                    w.fixed(lat, 6).fixed(lon, 6).uint(i as u64 + 1).fixed((dist * 10.0).round() as i64, 1);
                     w.end_row()?;
                 }
             }
@@ -1586,21 +1379,14 @@ fn weekday(y: i32, m: u32, d: u32) -> u32 {
 
 fn feeder_hubs(net: &Network) -> Vec<(u32, u32)> {
     // The hub of a feeder is the rapid-transit node nearest its first stop.
-    let rapid: Vec<u32> = (0..net.nodes.len() as u32)
-        .filter(|&n| net.nodes[n as usize].group != Group::Bus)
-        .collect();
+    let rapid: Vec<u32> = (0..net.nodes.len() as u32).filter(|&n| net.nodes[n as usize].group != Group::Bus).collect();
     let mut out = Vec::new();
     for (li, line) in net.lines.iter().enumerate() {
         if line.shape != LineShape::Feeder {
             continue;
         }
         let p = net.nodes[line.nodes[0] as usize].p;
-        let hub = rapid.iter().copied().min_by(|&a, &b| {
-            net.nodes[a as usize]
-                .p
-                .dist(p)
-                .total_cmp(&net.nodes[b as usize].p.dist(p))
-        });
+        let hub = rapid.iter().copied().min_by(|&a, &b| net.nodes[a as usize].p.dist(p).total_cmp(&net.nodes[b as usize].p.dist(p)));
         if let Some(h) = hub {
             out.push((h, li as u32));
         }
@@ -1687,15 +1473,7 @@ impl Builder {
     }
 
     fn add_named_node(&mut self, p: Pt, group: Group, perp: Pt, name: String) -> u32 {
-        self.nodes.push(Node {
-            p,
-            group,
-            perp,
-            name,
-            lines: Vec::new(),
-            first_stop: 0,
-            station: None,
-        });
+        self.nodes.push(Node { p, group, perp, name, lines: Vec::new(), first_stop: 0, station: None });
         (self.nodes.len() - 1) as u32
     }
 
@@ -1804,19 +1582,12 @@ impl Builder {
         let (s, c) = sin_cos(rd.theta);
         let (u, v) = (Pt::new(c, s), Pt::new(-s, c));
         let pos = |t: f64| u.scale(t).add(v.scale(rd.offset));
-        let mut anchors: Vec<(f64, Option<u32>)> =
-            rd.forced.iter().map(|&(t, n)| (t, Some(n))).collect();
+        let mut anchors: Vec<(f64, Option<u32>)> = rd.forced.iter().map(|&(t, n)| (t, Some(n))).collect();
         anchors.sort_by(|a, b| a.0.total_cmp(&b.0));
-        if anchors
-            .first()
-            .is_none_or(|a| a.0 - rd.t_min > 0.3 * rd.spacing)
-        {
+        if anchors.first().is_none_or(|a| a.0 - rd.t_min > 0.3 * rd.spacing) {
             anchors.insert(0, (rd.t_min, None));
         }
-        if anchors
-            .last()
-            .is_none_or(|a| rd.t_max - a.0 > 0.3 * rd.spacing)
-        {
+        if anchors.last().is_none_or(|a| rd.t_max - a.0 > 0.3 * rd.spacing) {
             anchors.push((rd.t_max, None));
         }
         let wiggle = if group == Group::Bus { 30.0 } else { 0.0 };
@@ -1846,11 +1617,7 @@ impl Builder {
     fn build_ring(&mut self, rg: RingDef) {
         let group = rg.mode.group();
         let two_pi = 2.0 * PI;
-        let mut anchors: Vec<(f64, Option<u32>)> = rg
-            .forced
-            .iter()
-            .map(|&(a, n)| (a.rem_euclid(two_pi), Some(n)))
-            .collect();
+        let mut anchors: Vec<(f64, Option<u32>)> = rg.forced.iter().map(|&(a, n)| (a.rem_euclid(two_pi), Some(n))).collect();
         anchors.sort_by(|a, b| a.0.total_cmp(&b.0));
         if anchors.is_empty() {
             anchors.push((self.rng.angle(), None));
@@ -1868,17 +1635,11 @@ impl Builder {
                 }
             };
             nodes.push(id);
-            let mut b = if i + 1 < n {
-                anchors[i + 1].0
-            } else {
-                anchors[0].0 + two_pi
-            };
+            let mut b = if i + 1 < n { anchors[i + 1].0 } else { anchors[0].0 + two_pi };
             if b <= a {
                 b += two_pi;
             }
-            let k = ((rg.r * (b - a)) / rg.spacing)
-                .round()
-                .max(if n == 1 { 3.0 } else { 1.0 }) as usize;
+            let k = ((rg.r * (b - a)) / rg.spacing).round().max(if n == 1 { 3.0 } else { 1.0 }) as usize;
             let seg = (b - a) / k as f64;
             for j in 1..k {
                 let aj = a + seg * j as f64 + seg * self.rng.range(-0.15, 0.15);
@@ -1918,8 +1679,7 @@ impl Builder {
         let mut heavy: Vec<RadialDef> = Vec::new();
         let all = self.radials(Mode::Metro, n_heavy, phase, 1.0, 1.0, |_, _| 0.0);
         for (i, mut rd) in all.into_iter().enumerate() {
-            let is_rail = spec.rail_radials > 0
-                && (i + 1) * spec.rail_radials / n_heavy > i * spec.rail_radials / n_heavy;
+            let is_rail = spec.rail_radials > 0 && (i + 1) * spec.rail_radials / n_heavy > i * spec.rail_radials / n_heavy;
             let (mode, extent, spacing) = if is_rail {
                 (Mode::Rail, spec.rail_extent, spec.rail_spacing)
             } else {
@@ -1932,26 +1692,13 @@ impl Builder {
             heavy.push(rd);
         }
         if !heavy.is_empty() {
-            let centre = self.add_named_node(
-                Pt::ZERO,
-                Group::Heavy,
-                Pt::new(0.0, 1.0),
-                format!("{city} Central"),
-            );
+            let centre = self.add_named_node(Pt::ZERO, Group::Heavy, Pt::new(0.0, 1.0), format!("{city} Central"));
             for rd in heavy.iter_mut() {
                 rd.forced.push((0.0, centre));
             }
         }
-        let mut heavy_rings: Vec<RingDef> = spec
-            .heavy_rings
-            .iter()
-            .map(|&(mode, r, spacing)| RingDef {
-                mode,
-                r,
-                spacing,
-                forced: Vec::new(),
-            })
-            .collect();
+        let mut heavy_rings: Vec<RingDef> =
+            spec.heavy_rings.iter().map(|&(mode, r, spacing)| RingDef { mode, r, spacing, forced: Vec::new() }).collect();
         self.cross(&mut heavy, &mut heavy_rings, Group::Heavy);
         for rd in heavy {
             self.build_radial(rd);
@@ -1962,27 +1709,16 @@ impl Builder {
 
         // Trams: radials passing 150–350 m beside the centre, and rings.
         let tram_phase = phase + 0.5 * PI / spec.tram_radials.max(1) as f64;
-        let mut trams = self.radials(
-            Mode::Tram,
-            spec.tram_radials,
-            tram_phase,
-            spec.tram_extent,
-            spec.tram_spacing,
-            |rng, i| {
-                let d = rng.range(150.0, 350.0);
-                if i % 2 == 0 { d } else { -d }
-            },
-        );
-        let mut tram_rings: Vec<RingDef> = spec
-            .tram_rings
-            .iter()
-            .map(|&(r, spacing)| RingDef {
-                mode: Mode::Tram,
-                r,
-                spacing,
-                forced: Vec::new(),
-            })
-            .collect();
+        let mut trams = self.radials(Mode::Tram, spec.tram_radials, tram_phase, spec.tram_extent, spec.tram_spacing, |rng, i| {
+            let d = rng.range(150.0, 350.0);
+            if i % 2 == 0 {
+                d
+            } else {
+                -d
+            }
+        });
+        let mut tram_rings: Vec<RingDef> =
+            spec.tram_rings.iter().map(|&(r, spacing)| RingDef { mode: Mode::Tram, r, spacing, forced: Vec::new() }).collect();
         self.cross(&mut trams, &mut tram_rings, Group::Tram);
         for rd in trams {
             self.build_radial(rd);
@@ -1993,24 +1729,10 @@ impl Builder {
 
         // Buses: trunk radials and rings, then feeders until the stop target is met.
         let bus_phase = self.rng.range(0.0, PI);
-        let mut buses = self.radials(
-            Mode::Bus,
-            spec.bus_radials,
-            bus_phase,
-            spec.bus_extent,
-            spec.bus_spacing,
-            |rng, _| rng.range(-500.0, 500.0),
-        );
-        let mut bus_rings: Vec<RingDef> = spec
-            .bus_rings
-            .iter()
-            .map(|&(r, spacing)| RingDef {
-                mode: Mode::Bus,
-                r,
-                spacing,
-                forced: Vec::new(),
-            })
-            .collect();
+        let mut buses =
+            self.radials(Mode::Bus, spec.bus_radials, bus_phase, spec.bus_extent, spec.bus_spacing, |rng, _| rng.range(-500.0, 500.0));
+        let mut bus_rings: Vec<RingDef> =
+            spec.bus_rings.iter().map(|&(r, spacing)| RingDef { mode: Mode::Bus, r, spacing, forced: Vec::new() }).collect();
         self.cross(&mut buses, &mut bus_rings, Group::Bus);
         for rd in buses {
             self.build_radial(rd);
@@ -2019,12 +1741,7 @@ impl Builder {
             self.build_ring(rg);
         }
 
-        let hubs: Vec<Pt> = self
-            .nodes
-            .iter()
-            .filter(|n| n.group != Group::Bus)
-            .map(|n| n.p)
-            .collect();
+        let hubs: Vec<Pt> = self.nodes.iter().filter(|n| n.group != Group::Bus).map(|n| n.p).collect();
         let mut estimate = self.estimated_stops();
         while !hubs.is_empty() {
             let len = ((spec.feeder_len as f64 * self.rng.range(0.7, 1.3)).round() as usize).max(3);
@@ -2055,9 +1772,7 @@ struct CsvZip<W: Write + Seek> {
 impl<W: Write + Seek> CsvZip<W> {
     fn file(&mut self, name: &str, header: &str) -> io::Result<()> {
         self.flush()?;
-        self.zip
-            .start_file(name, self.opts)
-            .map_err(io::Error::other)?;
+        self.zip.start_file(name, self.opts).map_err(io::Error::other)?;
         self.buf.extend_from_slice(header.as_bytes());
         self.buf.push(b'\n');
         Ok(())
@@ -2241,31 +1956,15 @@ mod tests {
                     (false, c) => field.push(c),
                 }
             }
-            assert!(
-                field.is_empty() && record.is_empty(),
-                "file must end with a newline"
-            );
+            assert!(field.is_empty() && record.is_empty(), "file must end with a newline");
             let header = records.remove(0);
             for (i, r) in records.iter().enumerate() {
-                assert_eq!(
-                    r.len(),
-                    header.len(),
-                    "line {} has {} fields, header has {}",
-                    i + 2,
-                    r.len(),
-                    header.len()
-                );
+                assert_eq!(r.len(), header.len(), "line {} has {} fields, header has {}", i + 2, r.len(), header.len());
             }
-            Table {
-                header,
-                rows: records,
-            }
+            Table { header, rows: records }
         }
         fn col(&self, name: &str) -> usize {
-            self.header
-                .iter()
-                .position(|h| h == name)
-                .unwrap_or_else(|| panic!("no column {name}"))
+            self.header.iter().position(|h| h == name).unwrap_or_else(|| panic!("no column {name}"))
         }
         fn column(&self, name: &str) -> Vec<&str> {
             let c = self.col(name);
@@ -2278,8 +1977,7 @@ mod tests {
 
     fn small_feed(seed: u64) -> (Vec<u8>, SynthStats) {
         let mut out = Cursor::new(Vec::new());
-        let stats =
-            write_feed(Preset::Small, seed, &mut out).expect("writing to memory cannot fail");
+        let stats = write_feed(Preset::Small, seed, &mut out).expect("writing to memory cannot fail");
         (out.into_inner(), stats)
     }
 
@@ -2309,15 +2007,7 @@ mod tests {
         // Source: Vigna's reference splitmix64.c, state 0, first four outputs.
         let mut r = SplitMix64(0);
         let got: Vec<u64> = (0..4).map(|_| r.next_u64()).collect();
-        assert_eq!(
-            got,
-            [
-                0xE220A8397B1DCDAF,
-                0x6E789E6AA1B965F4,
-                0x06C45D188009454F,
-                0xF88BB8A8724C81EC
-            ]
-        );
+        assert_eq!(got, [0xE220A8397B1DCDAF, 0x6E789E6AA1B965F4, 0x06C45D188009454F, 0xF88BB8A8724C81EC]);
     }
 
     #[test]
@@ -2326,15 +2016,9 @@ mod tests {
         for i in -2000..=2000 {
             let x = i as f64 * 0.0123;
             let (s, c) = sin_cos(x);
-            assert!(
-                (s - x.sin()).abs() < 1e-13 && (c - x.cos()).abs() < 1e-13,
-                "x = {x}"
-            );
+            assert!((s - x.sin()).abs() < 1e-13 && (c - x.cos()).abs() < 1e-13, "x = {x}");
             for &(y, xx) in &[(x, 1.0), (1.0, x), (-x, -0.5), (x, -3.0), (-2.0, x)] {
-                assert!(
-                    (atan2(y, xx) - y.atan2(xx)).abs() < 1e-13,
-                    "atan2({y}, {xx})"
-                );
+                assert!((atan2(y, xx) - y.atan2(xx)).abs() < 1e-13, "atan2({y}, {xx})");
             }
         }
     }
@@ -2352,11 +2036,7 @@ mod tests {
         for y in 2024..=2028 {
             for m in 1..=12u32 {
                 for d in 1..=days_in(y, m) {
-                    let (zm, zy) = if m < 3 {
-                        (m as i64 + 12, y as i64 - 1)
-                    } else {
-                        (m as i64, y as i64)
-                    };
+                    let (zm, zy) = if m < 3 { (m as i64 + 12, y as i64 - 1) } else { (m as i64, y as i64) };
                     let (k, j) = (zy % 100, zy / 100);
                     let h = (d as i64 + 13 * (zm + 1) / 5 + k + k / 4 + j / 4 + 5 * j) % 7;
                     let monday0 = (h + 5) % 7;
@@ -2372,10 +2052,7 @@ mod tests {
         assert_eq!("Region".parse::<Preset>(), Ok(Preset::Region));
         assert_eq!("metro".parse::<Preset>(), Ok(Preset::Metro));
         let err = "huge".parse::<Preset>().unwrap_err();
-        assert_eq!(
-            err.to_string(),
-            "unknown preset \"huge\": expected small, region or metro"
-        );
+        assert_eq!(err.to_string(), "unknown preset \"huge\": expected small, region or metro");
         for p in [Preset::Small, Preset::Region, Preset::Metro] {
             assert_eq!(p.to_string().parse::<Preset>(), Ok(p));
         }
@@ -2404,38 +2081,19 @@ mod tests {
     /// network: about 20,800 stops, 125,000 trips and 4.85 M connections (stop_times − trips).
     #[test]
     fn presets_hit_their_size_targets() {
-        let within =
-            |got: usize, want: usize| (got as f64 - want as f64).abs() <= 0.1 * want as f64;
-        for (preset, stops, trips, stop_times) in [
-            (Preset::Small, 300, None, 50_000),
-            (Preset::Region, 3_000, None, 600_000),
-            (Preset::Metro, 20_000, Some(130_000), 5_000_000),
-        ] {
+        let within = |got: usize, want: usize| (got as f64 - want as f64).abs() <= 0.1 * want as f64;
+        for (preset, stops, trips, stop_times) in
+            [(Preset::Small, 300, None, 50_000), (Preset::Region, 3_000, None, 600_000), (Preset::Metro, 20_000, Some(130_000), 5_000_000)]
+        {
             for seed in [1, 2] {
                 let net = Network::build(preset, seed);
                 let c = net.counts(net.headway_factor);
-                assert!(
-                    within(net.stops.len(), stops),
-                    "{preset}: {} stops",
-                    net.stops.len()
-                );
-                assert!(
-                    within(c.stop_times, stop_times),
-                    "{preset}: {} stop_times",
-                    c.stop_times
-                );
+                assert!(within(net.stops.len(), stops), "{preset}: {} stops", net.stops.len());
+                assert!(within(c.stop_times, stop_times), "{preset}: {} stop_times", c.stop_times);
                 if let Some(t) = trips {
                     assert!(within(c.trips, t), "{preset}: {} trips", c.trips);
-                    assert!(
-                        within(c.stop_times - c.trips, 4_850_000),
-                        "{preset}: {} connections",
-                        c.stop_times - c.trips
-                    );
-                    assert!(
-                        within(net.stops.len(), 20_800),
-                        "{preset}: {} stops",
-                        net.stops.len()
-                    );
+                    assert!(within(c.stop_times - c.trips, 4_850_000), "{preset}: {} connections", c.stop_times - c.trips);
+                    assert!(within(net.stops.len(), 20_800), "{preset}: {} stops", net.stops.len());
                 }
             }
         }
@@ -2446,11 +2104,7 @@ mod tests {
         let (bytes, stats) = small_feed(1);
         let f = read_feed(&bytes);
         assert!((270..=330).contains(&stats.stops), "{} stops", stats.stops);
-        assert!(
-            (45_000..=55_000).contains(&stats.stop_times),
-            "{} stop_times",
-            stats.stop_times
-        );
+        assert!((45_000..=55_000).contains(&stats.stop_times), "{} stop_times", stats.stop_times);
         assert_eq!(f["stops.txt"].rows.len(), stats.stops);
         assert_eq!(f["routes.txt"].rows.len(), stats.routes);
         assert_eq!(f["trips.txt"].rows.len(), stats.trips);
@@ -2464,96 +2118,23 @@ mod tests {
         let (bytes, _) = small_feed(1);
         let f = read_feed(&bytes);
         let required: &[(&str, &[&str])] = &[
-            (
-                "agency.txt",
-                &["agency_id", "agency_name", "agency_url", "agency_timezone"],
-            ),
-            (
-                "stops.txt",
-                &[
-                    "stop_id",
-                    "stop_name",
-                    "stop_lat",
-                    "stop_lon",
-                    "location_type",
-                    "parent_station",
-                ],
-            ),
-            (
-                "routes.txt",
-                &[
-                    "route_id",
-                    "agency_id",
-                    "route_short_name",
-                    "route_long_name",
-                    "route_type",
-                ],
-            ),
+            ("agency.txt", &["agency_id", "agency_name", "agency_url", "agency_timezone"]),
+            ("stops.txt", &["stop_id", "stop_name", "stop_lat", "stop_lon", "location_type", "parent_station"]),
+            ("routes.txt", &["route_id", "agency_id", "route_short_name", "route_long_name", "route_type"]),
             ("trips.txt", &["route_id", "service_id", "trip_id"]),
-            (
-                "stop_times.txt",
-                &[
-                    "trip_id",
-                    "arrival_time",
-                    "departure_time",
-                    "stop_id",
-                    "stop_sequence",
-                ],
-            ),
+            ("stop_times.txt", &["trip_id", "arrival_time", "departure_time", "stop_id", "stop_sequence"]),
             (
                 "calendar.txt",
-                &[
-                    "service_id",
-                    "monday",
-                    "tuesday",
-                    "wednesday",
-                    "thursday",
-                    "friday",
-                    "saturday",
-                    "sunday",
-                    "start_date",
-                    "end_date",
-                ],
+                &["service_id", "monday", "tuesday", "wednesday", "thursday", "friday", "saturday", "sunday", "start_date", "end_date"],
             ),
-            (
-                "calendar_dates.txt",
-                &["service_id", "date", "exception_type"],
-            ),
-            (
-                "feed_info.txt",
-                &["feed_publisher_name", "feed_publisher_url", "feed_lang"],
-            ),
-            (
-                "transfers.txt",
-                &["from_stop_id", "to_stop_id", "transfer_type"],
-            ),
-            (
-                "pathways.txt",
-                &[
-                    "pathway_id",
-                    "from_stop_id",
-                    "to_stop_id",
-                    "pathway_mode",
-                    "is_bidirectional",
-                ],
-            ),
+            ("calendar_dates.txt", &["service_id", "date", "exception_type"]),
+            ("feed_info.txt", &["feed_publisher_name", "feed_publisher_url", "feed_lang"]),
+            ("transfers.txt", &["from_stop_id", "to_stop_id", "transfer_type"]),
+            ("pathways.txt", &["pathway_id", "from_stop_id", "to_stop_id", "pathway_mode", "is_bidirectional"]),
             ("levels.txt", &["level_id", "level_index"]),
-            (
-                "shapes.txt",
-                &[
-                    "shape_id",
-                    "shape_pt_lat",
-                    "shape_pt_lon",
-                    "shape_pt_sequence",
-                ],
-            ),
+            ("shapes.txt", &["shape_id", "shape_pt_lat", "shape_pt_lon", "shape_pt_sequence"]),
         ];
-        assert_eq!(
-            f.len(),
-            required.len(),
-            "files: {:?}",
-            f.keys().collect::<Vec<_>>()
-        );
+        assert_eq!(f.len(), required.len(), "files: {:?}", f.keys().collect::<Vec<_>>());
         for (file, cols) in required {
             let t = f.get(*file).unwrap_or_else(|| panic!("{file} missing"));
             for c in *cols {
@@ -2564,19 +2145,11 @@ mod tests {
         // Reference: stop_name, stop_lat, stop_lon required for location_type 0, 1, 2;
         // parent_station required for 2, 3, 4 and forbidden for 1.
         let s = &f["stops.txt"];
-        let (lt, name, lat, lon, parent) = (
-            s.col("location_type"),
-            s.col("stop_name"),
-            s.col("stop_lat"),
-            s.col("stop_lon"),
-            s.col("parent_station"),
-        );
+        let (lt, name, lat, lon, parent) =
+            (s.col("location_type"), s.col("stop_name"), s.col("stop_lat"), s.col("stop_lon"), s.col("parent_station"));
         for r in &s.rows {
             if matches!(r[lt].as_str(), "0" | "1" | "2") {
-                assert!(
-                    !r[name].is_empty() && !r[lat].is_empty() && !r[lon].is_empty(),
-                    "{r:?}"
-                );
+                assert!(!r[name].is_empty() && !r[lat].is_empty() && !r[lon].is_empty(), "{r:?}");
             }
             match r[lt].as_str() {
                 "2" | "3" => assert!(!r[parent].is_empty(), "{r:?}"),
@@ -2585,12 +2158,7 @@ mod tests {
             }
         }
         // Reference: agency_timezone is a tz database name; feed_info dates as asked.
-        assert!(
-            f["agency.txt"]
-                .column("agency_timezone")
-                .iter()
-                .all(|z| *z == "Etc/GMT-1")
-        );
+        assert!(f["agency.txt"].column("agency_timezone").iter().all(|z| *z == "Etc/GMT-1"));
         assert_eq!(f["feed_info.txt"].column("feed_start_date"), ["20260101"]);
         assert_eq!(f["feed_info.txt"].column("feed_end_date"), ["20271231"]);
     }
@@ -2605,9 +2173,7 @@ mod tests {
     fn every_reference_resolves_for(seed: u64) {
         let (bytes, _) = small_feed(seed);
         let f = read_feed(&bytes);
-        let ids = |file: &str, col: &str| -> HashSet<String> {
-            f[file].column(col).into_iter().map(String::from).collect()
-        };
+        let ids = |file: &str, col: &str| -> HashSet<String> { f[file].column(col).into_iter().map(String::from).collect() };
         let stops = ids("stops.txt", "stop_id");
         let trips = ids("trips.txt", "trip_id");
         let routes = ids("routes.txt", "route_id");
@@ -2623,32 +2189,15 @@ mod tests {
             assert!(stops.contains(s), "stop_times stop_id {s}");
         }
         let tr = &f["trips.txt"];
-        for ((r, sv), sh) in tr
-            .column("route_id")
-            .iter()
-            .zip(tr.column("service_id"))
-            .zip(tr.column("shape_id"))
-        {
-            assert!(
-                routes.contains(*r) && services.contains(sv) && shapes.contains(sh),
-                "{r} {sv} {sh}"
-            );
+        for ((r, sv), sh) in tr.column("route_id").iter().zip(tr.column("service_id")).zip(tr.column("shape_id")) {
+            assert!(routes.contains(*r) && services.contains(sv) && shapes.contains(sh), "{r} {sv} {sh}");
         }
-        assert!(
-            f["routes.txt"]
-                .column("agency_id")
-                .iter()
-                .all(|a| agencies.contains(*a))
-        );
+        assert!(f["routes.txt"].column("agency_id").iter().all(|a| agencies.contains(*a)));
         for s in f["calendar_dates.txt"].column("service_id") {
             assert!(services.contains(s));
         }
         let s = &f["stops.txt"];
-        let kind: HashMap<&str, &str> = s
-            .column("stop_id")
-            .into_iter()
-            .zip(s.column("location_type"))
-            .collect();
+        let kind: HashMap<&str, &str> = s.column("stop_id").into_iter().zip(s.column("location_type")).collect();
         for (p, l) in s.column("parent_station").iter().zip(s.column("level_id")) {
             // Reference: parent_station must name a location_type 1 station.
             assert!(p.is_empty() || kind.get(p) == Some(&"1"), "parent {p}");
@@ -2656,18 +2205,11 @@ mod tests {
         }
         let t = &f["transfers.txt"];
         for (a, b) in t.column("from_stop_id").iter().zip(t.column("to_stop_id")) {
-            assert!(
-                stops.contains(*a) && stops.contains(b),
-                "transfer {a} -> {b}"
-            );
+            assert!(stops.contains(*a) && stops.contains(b), "transfer {a} -> {b}");
         }
         let used_stops: HashSet<&str> = st.column("stop_id").into_iter().collect();
         for (id, lt) in s.column("stop_id").iter().zip(s.column("location_type")) {
-            assert_eq!(
-                lt == "0",
-                used_stops.contains(id),
-                "stop {id} (location_type {lt}) served iff a stop/platform"
-            );
+            assert_eq!(lt == "0", used_stops.contains(id), "stop {id} (location_type {lt}) served iff a stop/platform");
         }
     }
 
@@ -2682,43 +2224,26 @@ mod tests {
         let (bytes, _) = small_feed(seed);
         let f = read_feed(&bytes);
         let st = &f["stop_times.txt"];
-        let (ti, ai, di, si, qi) = (
-            st.col("trip_id"),
-            st.col("arrival_time"),
-            st.col("departure_time"),
-            st.col("stop_id"),
-            st.col("stop_sequence"),
-        );
+        let (ti, ai, di, si, qi) =
+            (st.col("trip_id"), st.col("arrival_time"), st.col("departure_time"), st.col("stop_id"), st.col("stop_sequence"));
         let mut seen = HashSet::new();
         let mut prev: Option<(&str, u32, u32)> = None;
         let (mut first_dep, mut last_first_dep, mut past_midnight) = (u32::MAX, 0, 0);
         let mut firsts: HashMap<&str, &str> = HashMap::new();
         let mut ring_trips = 0;
         for r in &st.rows {
-            let (trip, arr, dep, seq) = (
-                r[ti].as_str(),
-                secs(&r[ai]),
-                secs(&r[di]),
-                r[qi].parse::<u32>().unwrap(),
-            );
+            let (trip, arr, dep, seq) = (r[ti].as_str(), secs(&r[ai]), secs(&r[di]), r[qi].parse::<u32>().unwrap());
             assert!(arr <= dep, "{r:?}");
             match prev {
                 Some((p, pdep, pseq)) if p == trip => {
-                    assert!(
-                        arr > pdep,
-                        "trip {trip}: arrival {} not after previous departure",
-                        r[ai]
-                    );
+                    assert!(arr > pdep, "trip {trip}: arrival {} not after previous departure", r[ai]);
                     assert!(seq > pseq, "trip {trip}: stop_sequence {seq} after {pseq}");
                     if seq > 2 && firsts.get(trip) == Some(&r[si].as_str()) {
                         ring_trips += 1;
                     }
                 }
                 _ => {
-                    assert!(
-                        seen.insert(trip.to_string()),
-                        "rows of trip {trip} are not contiguous"
-                    );
+                    assert!(seen.insert(trip.to_string()), "rows of trip {trip} are not contiguous");
                     firsts.insert(trip, r[si].as_str());
                     first_dep = first_dep.min(dep);
                     last_first_dep = last_first_dep.max(dep);
@@ -2729,18 +2254,9 @@ mod tests {
             }
             prev = Some((trip, dep, seq));
         }
-        assert!(
-            (hm(5, 0)..hm(5, 15)).contains(&first_dep),
-            "service starts about 05:00, not {first_dep} s"
-        );
-        assert!(
-            last_first_dep <= hm(24, 30) && last_first_dep >= hm(24, 0),
-            "last departure {last_first_dep}"
-        );
-        assert!(
-            past_midnight > 100,
-            "only {past_midnight} stop times after 24:00:00"
-        );
+        assert!((hm(5, 0)..hm(5, 15)).contains(&first_dep), "service starts about 05:00, not {first_dep} s");
+        assert!(last_first_dep <= hm(24, 30) && last_first_dep >= hm(24, 0), "last departure {last_first_dep}");
+        assert!(past_midnight > 100, "only {past_midnight} stop times after 24:00:00");
         assert!(ring_trips > 0, "ring trips return to their first stop");
     }
 
@@ -2750,39 +2266,19 @@ mod tests {
         let net = Network::build(Preset::Metro, 1);
         let metro = net.lines.iter().find(|l| l.mode == Mode::Metro).unwrap();
         let deps = departures(metro, 0, 0, net.headway_factor);
-        let per_hour = |a: u32, b: u32| {
-            deps.iter().filter(|(t, _)| *t >= a && *t < b).count() as f64
-                / ((b - a) as f64 / 3600.0)
-        };
-        let (am, mid, pm, eve) = (
-            per_hour(hm(7, 0), hm(9, 0)),
-            per_hour(hm(10, 0), hm(15, 0)),
-            per_hour(hm(16, 0), hm(19, 0)),
-            per_hour(hm(21, 0), hm(24, 0)),
-        );
-        assert!(
-            am > mid && pm > mid && mid > eve,
-            "per hour: am {am} midday {mid} pm {pm} evening {eve}"
-        );
+        let per_hour = |a: u32, b: u32| deps.iter().filter(|(t, _)| *t >= a && *t < b).count() as f64 / ((b - a) as f64 / 3600.0);
+        let (am, mid, pm, eve) =
+            (per_hour(hm(7, 0), hm(9, 0)), per_hour(hm(10, 0), hm(15, 0)), per_hour(hm(16, 0), hm(19, 0)), per_hour(hm(21, 0), hm(24, 0)));
+        assert!(am > mid && pm > mid && mid > eve, "per hour: am {am} midday {mid} pm {pm} evening {eve}");
         let sunday = departures(metro, 2, 0, net.headway_factor).len();
-        assert!(
-            sunday < deps.len(),
-            "Sunday {sunday} vs weekday {}",
-            deps.len()
-        );
+        assert!(sunday < deps.len(), "Sunday {sunday} vs weekday {}", deps.len());
     }
 
     /// Great-circle distance, haversine formula with the mean Earth radius 6,371,008.8 m
     /// (IUGG mean radius; recalled from memory).
     fn haversine_m(a: (f64, f64), b: (f64, f64)) -> f64 {
-        let (la1, lo1, la2, lo2) = (
-            a.0.to_radians(),
-            a.1.to_radians(),
-            b.0.to_radians(),
-            b.1.to_radians(),
-        );
-        let h = ((la2 - la1) / 2.0).sin().powi(2)
-            + la1.cos() * la2.cos() * ((lo2 - lo1) / 2.0).sin().powi(2);
+        let (la1, lo1, la2, lo2) = (a.0.to_radians(), a.1.to_radians(), b.0.to_radians(), b.1.to_radians());
+        let h = ((la2 - la1) / 2.0).sin().powi(2) + la1.cos() * la2.cos() * ((lo2 - lo1) / 2.0).sin().powi(2);
         2.0 * 6_371_008.8 * h.sqrt().asin()
     }
 
@@ -2803,16 +2299,8 @@ mod tests {
             .zip(s.column("stop_lat").into_iter().zip(s.column("stop_lon")))
             .map(|(id, (la, lo))| (id, (la.parse().unwrap(), lo.parse().unwrap())))
             .collect();
-        let station: HashMap<&str, &str> = s
-            .column("stop_id")
-            .into_iter()
-            .zip(s.column("parent_station"))
-            .collect();
-        let trip_route: HashMap<&str, &str> = f["trips.txt"]
-            .column("trip_id")
-            .into_iter()
-            .zip(f["trips.txt"].column("route_id"))
-            .collect();
+        let station: HashMap<&str, &str> = s.column("stop_id").into_iter().zip(s.column("parent_station")).collect();
+        let trip_route: HashMap<&str, &str> = f["trips.txt"].column("trip_id").into_iter().zip(f["trips.txt"].column("route_id")).collect();
         let mut route_stops: HashMap<&str, HashSet<&str>> = HashMap::new();
         let st = &f["stop_times.txt"];
         for (t, stop) in st.column("trip_id").iter().zip(st.column("stop_id")) {
@@ -2848,20 +2336,11 @@ mod tests {
                     }
                 }
             }
-            assert!(
-                walk_link,
-                "route {a} has no stop 50–400 m from another route's stop"
-            );
+            assert!(walk_link, "route {a} has no stop 50–400 m from another route's stop");
         }
         let root = find(&mut parent, 0);
         for i in 0..routes.len() {
-            assert_eq!(
-                find(&mut parent, i),
-                root,
-                "route {} is cut off from route {}",
-                routes[i],
-                routes[0]
-            );
+            assert_eq!(find(&mut parent, i), root, "route {} is cut off from route {}", routes[i], routes[0]);
         }
     }
 
@@ -2878,16 +2357,8 @@ mod tests {
         let s = &f["stops.txt"];
         let ids = s.column("stop_id");
         let lt: HashMap<&str, &str> = ids.iter().copied().zip(s.column("location_type")).collect();
-        let wb: HashMap<&str, &str> = ids
-            .iter()
-            .copied()
-            .zip(s.column("wheelchair_boarding"))
-            .collect();
-        let parent: HashMap<&str, &str> = ids
-            .iter()
-            .copied()
-            .zip(s.column("parent_station"))
-            .collect();
+        let wb: HashMap<&str, &str> = ids.iter().copied().zip(s.column("wheelchair_boarding")).collect();
+        let parent: HashMap<&str, &str> = ids.iter().copied().zip(s.column("parent_station")).collect();
         let p = &f["pathways.txt"];
         let mut all: HashMap<&str, Vec<&str>> = HashMap::new();
         let mut step_free: HashMap<&str, Vec<&str>> = HashMap::new();
@@ -2900,11 +2371,7 @@ mod tests {
                 r[p.col("is_bidirectional")].as_str(),
             );
             // Reference: pathway ends are location_type 0, 2, 3 or 4, never a station (1).
-            assert!(
-                matches!(lt[from], "0" | "2" | "3" | "4")
-                    && matches!(lt[to], "0" | "2" | "3" | "4"),
-                "{r:?}"
-            );
+            assert!(matches!(lt[from], "0" | "2" | "3" | "4") && matches!(lt[to], "0" | "2" | "3" | "4"), "{r:?}");
             // Reference: exit gates (7) are never bidirectional; escalators run one way here.
             if mode == "7" || mode == "4" {
                 assert_eq!(bidi, "0", "{r:?}");
@@ -2926,10 +2393,7 @@ mod tests {
             }
         }
         for m in ["1", "2", "3", "4", "5"] {
-            assert!(
-                modes.contains(m),
-                "no pathway_mode {m}: walkway, stairs, moving sidewalk, escalator, elevator"
-            );
+            assert!(modes.contains(m), "no pathway_mode {m}: walkway, stairs, moving sidewalk, escalator, elevator");
         }
         let reach = |g: &HashMap<&str, Vec<&str>>, from: &str, to: &str| {
             let mut stack = vec![from.to_string()];
@@ -2951,34 +2415,17 @@ mod tests {
             if lt[id] != "0" || parent[id].is_empty() {
                 continue;
             }
-            let entrances: Vec<&str> = ids
-                .iter()
-                .copied()
-                .filter(|e| lt[e] == "2" && parent[e] == parent[id])
-                .collect();
+            let entrances: Vec<&str> = ids.iter().copied().filter(|e| lt[e] == "2" && parent[e] == parent[id]).collect();
             // Reference: each platform has a path to and from an entrance/exit.
-            assert!(
-                entrances
-                    .iter()
-                    .any(|e| reach(&all, e, id) && reach(&all, id, e)),
-                "platform {id} unreachable"
-            );
+            assert!(entrances.iter().any(|e| reach(&all, e, id) && reach(&all, id, e)), "platform {id} unreachable");
             // Reference: wheelchair_boarding of a child stop, empty inherits the parent's; 1 means
             // some accessible path from outside the station to the platform, 2 none.
             let own = wb[id];
             let resolved = if own.is_empty() { wb[parent[id]] } else { own };
-            let free_path = entrances
-                .iter()
-                .any(|e| reach(&step_free, e, id) && reach(&step_free, id, e));
+            let free_path = entrances.iter().any(|e| reach(&step_free, e, id) && reach(&step_free, id, e));
             match resolved {
-                "1" => assert!(
-                    free_path,
-                    "platform {id} marked accessible without a step-free path"
-                ),
-                "2" => assert!(
-                    !free_path,
-                    "platform {id} marked not accessible but has a step-free path"
-                ),
+                "1" => assert!(free_path, "platform {id} marked accessible without a step-free path"),
+                "2" => assert!(!free_path, "platform {id} marked not accessible but has a step-free path"),
                 other => panic!("platform {id} resolves to wheelchair_boarding {other:?}"),
             }
             checked[if own.is_empty() {
@@ -2989,10 +2436,7 @@ mod tests {
                 2
             }] += 1;
         }
-        assert!(
-            checked.iter().all(|&n| n > 0),
-            "inherited / own 1 / own 2 platforms: {checked:?}"
-        );
+        assert!(checked.iter().all(|&n| n > 0), "inherited / own 1 / own 2 platforms: {checked:?}");
         // Reference: levels.txt is required when pathways include elevators.
         assert!(!f["levels.txt"].rows.is_empty());
     }
@@ -3001,10 +2445,7 @@ mod tests {
     fn accessibility_values_are_mixed() {
         let (bytes, _) = small_feed(1);
         let f = read_feed(&bytes);
-        for (file, col) in [
-            ("stops.txt", "wheelchair_boarding"),
-            ("trips.txt", "wheelchair_accessible"),
-        ] {
+        for (file, col) in [("stops.txt", "wheelchair_boarding"), ("trips.txt", "wheelchair_accessible")] {
             let vals: HashSet<&str> = f[file].column(col).into_iter().collect();
             // Reference: 0 or empty = no information, 1 = accessible, 2 = not accessible.
             assert_eq!(vals, HashSet::from(["", "1", "2"]), "{file} {col}");
@@ -3016,61 +2457,29 @@ mod tests {
         let (bytes, _) = small_feed(1);
         let f = read_feed(&bytes);
         let cal = &f["calendar.txt"];
-        let days = [
-            "monday",
-            "tuesday",
-            "wednesday",
-            "thursday",
-            "friday",
-            "saturday",
-            "sunday",
-        ];
-        let runs = |svc: &str, wd: usize| {
-            cal.rows
-                .iter()
-                .any(|r| r[cal.col("service_id")] == svc && r[cal.col(days[wd])] == "1")
-        };
+        let days = ["monday", "tuesday", "wednesday", "thursday", "friday", "saturday", "sunday"];
+        let runs = |svc: &str, wd: usize| cal.rows.iter().any(|r| r[cal.col("service_id")] == svc && r[cal.col(days[wd])] == "1");
         let cd = &f["calendar_dates.txt"];
         let (mut removed, mut added) = (0, 0);
         for r in &cd.rows {
-            let (svc, date, ex) = (
-                &r[cd.col("service_id")],
-                &r[cd.col("date")],
-                &r[cd.col("exception_type")],
-            );
-            assert!(
-                date.as_str() >= FEED_START && date.as_str() <= FEED_END,
-                "{date}"
-            );
-            let (y, m, d) = (
-                date[..4].parse().unwrap(),
-                date[4..6].parse().unwrap(),
-                date[6..].parse().unwrap(),
-            );
+            let (svc, date, ex) = (&r[cd.col("service_id")], &r[cd.col("date")], &r[cd.col("exception_type")]);
+            assert!(date.as_str() >= FEED_START && date.as_str() <= FEED_END, "{date}");
+            let (y, m, d) = (date[..4].parse().unwrap(), date[4..6].parse().unwrap(), date[6..].parse().unwrap());
             let wd = weekday(y, m, d) as usize;
             // Reference: exception_type 1 adds service on the date, 2 removes it.
             match ex.as_str() {
                 "2" => {
-                    assert!(
-                        runs(svc, wd),
-                        "{svc} removed on {date}, a day it does not run"
-                    );
+                    assert!(runs(svc, wd), "{svc} removed on {date}, a day it does not run");
                     removed += 1;
                 }
                 "1" => {
-                    assert!(
-                        !runs(svc, wd),
-                        "{svc} added on {date}, a day it already runs"
-                    );
+                    assert!(!runs(svc, wd), "{svc} added on {date}, a day it already runs");
                     added += 1;
                 }
                 other => panic!("exception_type {other}"),
             }
         }
-        assert!(
-            removed >= 5 && added >= 5,
-            "{removed} removed, {added} added"
-        );
+        assert!(removed >= 5 && added >= 5, "{removed} removed, {added} added");
     }
 
     #[test]
@@ -3083,21 +2492,13 @@ mod tests {
             assert_eq!(h.len(), 6, "{h}");
             [0, 2, 4].map(|i| u8::from_str_radix(&h[i..i + 2], 16).unwrap())
         };
-        for (bg, fg) in r
-            .column("route_color")
-            .into_iter()
-            .zip(r.column("route_text_color"))
-        {
+        for (bg, fg) in r.column("route_color").into_iter().zip(r.column("route_text_color")) {
             let (a, b) = (relative_luminance(parse(bg)), relative_luminance(parse(fg)));
             let ratio = (a.max(b) + 0.05) / (a.min(b) + 0.05);
             assert!(ratio >= 4.5, "{bg} on {fg}: {ratio:.2}");
         }
         let types: HashSet<&str> = r.column("route_type").into_iter().collect();
-        assert_eq!(
-            types,
-            HashSet::from(["0", "1", "2", "3"]),
-            "tram, metro, rail and bus routes"
-        );
+        assert_eq!(types, HashSet::from(["0", "1", "2", "3"]), "tram, metro, rail and bus routes");
     }
 
     #[test]
