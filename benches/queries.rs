@@ -385,7 +385,7 @@ impl PgGraph {
                     continue;
                 }
             }
-            search::edges_of(tt, net, &no_ends, p, node, &mut out);
+            search::edges_of(search::Query::new(tt, net, &no_ends, 0, p), node, &mut out);
             row.clear();
             row.extend_from_slice(&out);
             if let Node::Ride(e) = kind {
@@ -575,7 +575,7 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
     // The first search sizes the reusable buffers; its RSS growth is their size.
     let rss_before = proc_status_bytes("VmRSS");
     let t = Instant::now();
-    let _ = search::earliest(tt, &net, &mut st, &ends(&qs[0]), qs[0].depart_s, &std_p);
+    let _ = search::earliest(search::Query::new(tt, &net, &ends(&qs[0]), qs[0].depart_s, &std_p), &mut st);
     let first_search_s = t.elapsed().as_secs_f64();
     let search_state_rss = rss_before.zip(proc_status_bytes("VmRSS")).map(|(a, b)| b.saturating_sub(a));
 
@@ -585,19 +585,19 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
     let earliest = time_each(
         &qs,
         |q| {
-            let r = search::earliest(tt, &net, &mut st, &ends(q), q.depart_s, &std_p);
+            let r = search::earliest(search::Query::new(tt, &net, &ends(q), q.depart_s, &std_p), &mut st);
             settled += st.settled;
             r
         },
         |_, r| found += usize::from(r.is_some()),
     );
     eprintln!("[{preset}] options k=3");
-    let options3 = time_each(&qs, |q| search::options(tt, &net, &mut st, &ends(q), q.depart_s, &std_p, 3), |_, _| {});
+    let options3 = time_each(&qs, |q| search::options(search::Query::new(tt, &net, &ends(q), q.depart_s, &std_p), &mut st, 3), |_, _| {});
     eprintln!("[{preset}] step-free strict");
     let mut strict_found = 0;
     let strict = time_each(
         &qs,
-        |q| search::earliest(tt, &net, &mut st, &ends(q), q.depart_s, &strict_p),
+        |q| search::earliest(search::Query::new(tt, &net, &ends(q), q.depart_s, &strict_p), &mut st),
         |_, r| strict_found += usize::from(r.is_some()),
     );
     eprintln!("[{preset}] one-to-all");
@@ -626,7 +626,7 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
             b.iter(|| {
                 let q = &qs[i % qs.len()];
                 i += 1;
-                search::earliest(tt, &net, &mut st, &ends(q), q.depart_s, &std_p)
+                search::earliest(search::Query::new(tt, &net, &ends(q), q.depart_s, &std_p), &mut st)
             })
         });
         g.finish();
@@ -732,7 +732,7 @@ fn baselines(preset: Preset, tt: &Timetable, net: &Network, st: &mut SearchState
     let mut csa_disagree = Vec::new();
     for q in qs {
         let t = Instant::now();
-        let ours = search::earliest(tt, net, st, &ends(q), q.depart_s, &p0).map(|j| j.arrival_s);
+        let ours = search::earliest(search::Query::new(tt, net, &ends(q), q.depart_s, &p0), st).map(|j| j.arrival_s);
         ours_s.push(ms(t.elapsed()));
         let t = Instant::now();
         let theirs = csa.scan(&rules, q.from, Some(q.to), q.depart_s, horizon(q));
@@ -818,7 +818,7 @@ fn pg_run(tt: &Timetable, net: &Network, st: &mut SearchState, pg: &mut PgGraph,
             }
             let e = ends(q);
             let t = Instant::now();
-            search::run_to_target(tt, net, st, &e, q.depart_s, p);
+            search::run_to_target(search::Query::new(tt, net, &e, q.depart_s, p), st);
             let dt = ms(t.elapsed());
             match st.cost_of(st.sink(0)) {
                 Some(ours) => answered.push((q, dt, ours)),

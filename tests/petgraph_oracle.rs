@@ -17,7 +17,7 @@ use petgraph::graph::{Graph, NodeIndex};
 use support::{hms, Feed};
 use timeweave::graph::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
 use timeweave::route::bounds::UNREACHABLE;
-use timeweave::route::search::{self, decode, node_time, Endpoints, Node, Params, SearchState, StepFree};
+use timeweave::route::search::{self, decode, node_time, Endpoints, Node, Params, Query, SearchState, StepFree};
 use timeweave::timetable::{StopIdx, Timetable, NO_DROP_OFF};
 use timeweave::Engine;
 
@@ -166,7 +166,7 @@ fn oracle_graph(tt: &Timetable, net: &Network, ends: &Endpoints, depart_s: u32, 
                 continue;
             }
         }
-        search::edges_of(tt, net, ends, p, node, &mut out);
+        search::edges_of(Query::new(tt, net, ends, 0, p), node, &mut out);
         for &(to, w) in &out {
             let within = match (decode(net, node).1, decode(net, to).1) {
                 (Node::Ride(e), Node::Sink) => net.arr(e as usize + 1) <= horizon,
@@ -199,7 +199,7 @@ fn oracle_graph(tt: &Timetable, net: &Network, ends: &Endpoints, depart_s: u32, 
 fn compare(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u32, p: &Params) -> usize {
     let ends = Endpoints { origins: origins.to_vec(), targets: vec![] };
     let mut st = SearchState::new();
-    search::run_all(tt, net, &mut st, &ends, depart_s, p);
+    search::run_all(Query::new(tt, net, &ends, depart_s, p), &mut st);
     let (g, source) = oracle_graph(tt, net, &ends, depart_s, p);
 
     // petgraph::algo::dijkstra as an independent reference implementation.
@@ -239,7 +239,7 @@ fn compare_to_target(
     p: &Params,
 ) -> bool {
     let ends = Endpoints { origins: origins.to_vec(), targets: vec![target] };
-    search::run_to_target(tt, net, st, &ends, depart_s, p);
+    search::run_to_target(Query::new(tt, net, &ends, depart_s, p), st);
     let engine = st.cost_of(st.sink(0));
     let (g, source) = oracle_graph(tt, net, &ends, depart_s, p);
     let sink = NodeIndex::new(2 * net.events());
@@ -290,7 +290,7 @@ fn compare_sweep(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u
         assert_eq!(swept[s], oracle[s], "earliest arrival at {}, query {depart_s} from {origins:?}, {p:?}", tt.stops[s].id);
     }
     // And Dijkstra's own one-to-all gives the same arrivals.
-    search::run_all(tt, net, &mut st, &ends, depart_s, p);
+    search::run_all(Query::new(tt, net, &ends, depart_s, p), &mut st);
     assert_eq!(&st.stop_arrivals()[..tt.stops.len()], &swept[..], "run_all's arrivals");
     oracle.iter().filter(|&&t| t != u32::MAX).count()
 }
@@ -484,7 +484,7 @@ fn goal_directed_bounds_never_exceed_petgraph_costs_to_the_sink() {
             let to_sink = petgraph::algo::dijkstra(&rev, NodeIndex::new(sink as usize), None, |e| *e.weight());
             for o in [(t + 5) % STOPS, (t + 11) % STOPS, (t + 17) % STOPS] {
                 let ends = Endpoints { origins: vec![StopIdx(o)], targets: vec![StopIdx(t)] };
-                let bound = search::node_bounds(tt, &net, &mut st, &ends, 0, &p);
+                let bound = search::node_bounds(Query::new(tt, &net, &ends, 0, &p), &mut st);
                 for e in g.raw_edges() {
                     let (a, z) = (e.source().index(), e.target().index());
                     if a < nodes as usize && bound[a] != UNREACHABLE && bound[z] != UNREACHABLE {
@@ -529,7 +529,7 @@ fn edges_of_is_defined_on_every_node() {
     let p = Params::default();
     let mut out = Vec::new();
     for node in 0..2 * net.events() as u32 + 1 {
-        search::edges_of(&engine.tt, &net, &ends, &p, node, &mut out);
+        search::edges_of(Query::new(&engine.tt, &net, &ends, 0, &p), node, &mut out);
         if let Node::Ride(e) = decode(&net, node).1 {
             if net.flags(e as usize) & LAST_OF_TRIP != 0 {
                 assert!(out.is_empty(), "Ride({e}) is the last event of its trip: no edge leaves it, got {out:?}");

@@ -30,9 +30,9 @@
 //! carries its exact Dijkstra cost.
 
 use crate::graph::{csr, Network, LAST_OF_TRIP};
-use crate::route::query::{weighted_walk_s, Endpoints};
+use crate::route::query::{weighted_walk_s, Endpoints, WalkKey};
 use crate::route::radix_heap::RadixHeap;
-use crate::timetable::{StopIdx, Timetable, WalkProfile};
+use crate::timetable::{StopIdx, Timetable};
 
 /// Bound of a stop that cannot reach the target.
 pub const UNREACHABLE: u32 = u32::MAX;
@@ -48,16 +48,6 @@ pub const ACTIVE: usize = 8;
 /// `K − π(s)` bound on the stops it did not settle, and the search settles fewer nodes (measured
 /// in DEVELOPERS.md).
 pub const EXACT_ACTIVE: usize = 4;
-
-/// The walking setting that prepared data depend on.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct WalkKey {
-    pub network: u64,
-    pub profile: WalkProfile,
-    pub speed_mps: f64,
-    pub max_walk_m: f64,
-    pub weight: f64,
-}
 
 /// One walking link at one speed.
 #[derive(Debug, Clone, Copy)]

@@ -4,8 +4,7 @@
 use serde::Serialize;
 
 use crate::graph::{Network, STEP_FREE_UNKNOWN, STEP_FREE_YES};
-use crate::route::bounds::WalkKey;
-use crate::timetable::{StopIdx, WalkProfile};
+use crate::timetable::{StopIdx, Timetable, WalkProfile};
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize, Default)]
 #[serde(rename_all = "snake_case")]
@@ -33,6 +32,16 @@ impl StepFree {
             StepFree::Lenient => STEP_FREE_YES | STEP_FREE_UNKNOWN,
         }
     }
+}
+
+/// The walking setting that prepared data (walking links, landmark tables) depend on.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WalkKey {
+    pub network: u64,
+    pub profile: WalkProfile,
+    pub speed_mps: f64,
+    pub max_walk_m: f64,
+    pub weight: f64,
 }
 
 /// Routing parameters of one query, with the defaults and where they come from.
@@ -119,5 +128,26 @@ pub fn weighted_walk_s(walk_s: u32, weight: f64) -> u32 {
         walk_s
     } else {
         (walk_s as f64 * weight).round() as u32
+    }
+}
+
+/// One search request on one date's network: the inputs every search function takes.
+#[derive(Clone, Copy)]
+pub struct Query<'a> {
+    pub tt: &'a Timetable,
+    pub net: &'a Network,
+    pub ends: &'a Endpoints,
+    /// Earliest departure from the origins, s on the network's timeline.
+    pub depart_s: u32,
+    pub p: &'a Params,
+}
+
+impl<'a> Query<'a> {
+    pub fn new(tt: &'a Timetable, net: &'a Network, ends: &'a Endpoints, depart_s: u32, p: &'a Params) -> Self {
+        Query { tt, net, ends, depart_s, p }
+    }
+    /// The same request, leaving at or after `depart_s` instead.
+    pub fn leaving(self, depart_s: u32) -> Self {
+        Query { depart_s, ..self }
     }
 }

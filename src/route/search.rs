@@ -19,9 +19,9 @@
 pub use crate::graph::Node;
 use crate::graph::{Network, NodeIds, HAS_RULES, LAST_OF_TRIP};
 use crate::route::boardings::Boardings;
-use crate::route::bounds::{Active, Anchor, Landmarks, Prepared, Tentative, WalkKey, WalkLinks, EXACT_ACTIVE, UNREACHABLE};
+use crate::route::bounds::{Active, Anchor, Landmarks, Prepared, Tentative, WalkLinks, EXACT_ACTIVE, UNREACHABLE};
 use crate::route::edges::{event_ok, rule_boardings};
-pub use crate::route::query::{weighted_walk_s, Endpoints, Journey, Params, StepFree};
+pub use crate::route::query::{weighted_walk_s, Endpoints, Journey, Params, Query, StepFree, WalkKey};
 use crate::route::radix_heap::RadixHeap;
 use crate::route::sweep::{self, SweepBuffers};
 use crate::timetable::{StopIdx, Timetable, NO_DROP_OFF, NO_PICKUP};
@@ -287,20 +287,17 @@ struct Ctx<'a> {
     landmarks: Option<(&'a Landmarks, Active)>,
 }
 
-/// What a search is asked: where, when, how, and how many layers.
+/// One run of the search: the query, how many layers, and what it looks for.
 #[derive(Clone, Copy)]
-struct Query<'a> {
-    tt: &'a Timetable,
-    net: &'a Network,
-    ends: &'a Endpoints,
-    depart_s: u32,
-    p: &'a Params,
+struct Run<'a> {
+    q: Query<'a>,
     layers: u32,
     goal: Goal,
 }
 
 impl<'a> Ctx<'a> {
-    fn new(q: Query<'a>, walk: &'a WalkLinks, landmarks: Option<(&'a Landmarks, Active)>) -> Self {
+    fn new(run: Run<'a>, walk: &'a WalkLinks, landmarks: Option<(&'a Landmarks, Active)>) -> Self {
+        let (q, layers, goal) = (run.q, run.layers, run.goal);
         Ctx {
             tt: q.tt,
             net: q.net,
@@ -309,10 +306,10 @@ impl<'a> Ctx<'a> {
             walk,
             ids: NodeIds::of(q.net),
             depart_s: q.depart_s,
-            layers: q.layers,
+            layers,
             mask: q.p.step_free.event_mask(),
             horizon: q.depart_s.saturating_add(q.p.max_duration_s),
-            goal: q.goal,
+            goal,
             landmarks,
         }
     }
@@ -528,12 +525,13 @@ fn prefetch<T>(x: &T) {
     let _ = x;
 }
 
-fn run(q: Query, st: &mut SearchState) {
-    st.reset(q.net, q.tt.stops.len(), q.layers);
-    let directed = q.goal == Goal::Target && !q.ends.targets.is_empty();
+fn run(run: Run, st: &mut SearchState) {
+    let q = run.q;
+    st.reset(q.net, q.tt.stops.len(), run.layers);
+    let directed = run.goal == Goal::Target && !q.ends.targets.is_empty();
     let prep = st.take_prepared(q.tt, q.net, q.p.walk_key(q.net), directed);
-    let landmarks = if q.goal == Goal::Target { goal_bounds(q.tt, q.net, st, &prep, q.ends) } else { None };
-    search_loop(&Ctx::new(q, &prep.walk, landmarks), st);
+    let landmarks = if run.goal == Goal::Target { goal_bounds(q.tt, q.net, st, &prep, q.ends) } else { None };
+    search_loop(&Ctx::new(run, &prep.walk, landmarks), st);
     st.give_back(prep);
 }
 
@@ -576,11 +574,12 @@ fn bound_from(lm: &Landmarks, origins: &[Anchor], s: StopIdx) -> u32 {
 /// The lower bound on the cost from every node to the sink that a point-to-point search from
 /// `ends` keys its nodes by, node by node (for oracle tests); `UNREACHABLE` where the search
 /// knows the sink cannot be reached.
-pub fn node_bounds(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) -> Vec<u32> {
+pub fn node_bounds(q: Query, st: &mut SearchState) -> Vec<u32> {
+    let Query { tt, net, ends, p, .. } = q;
     st.reset(net, tt.stops.len(), 1);
     let prep = st.take_prepared(tt, net, p.walk_key(net), true);
     let landmarks = goal_bounds(tt, net, st, &prep, ends);
-    let cx = Ctx::new(Query { tt, net, ends, depart_s, p, layers: 1, goal: Goal::Target }, &prep.walk, landmarks);
+    let cx = Ctx::new(Run { q, layers: 1, goal: Goal::Target }, &prep.walk, landmarks);
     let out = (0..cx.ids.per_layer())
         .map(|node| match decode(net, node).1 {
             Node::Wait(q) => {
@@ -797,7 +796,8 @@ fn rides_on(net: &Network, nodes: &[u32]) -> u32 {
     nodes.windows(2).filter(|w| is_boarding(net, w[0], w[1])).count() as u32
 }
 
-fn direct_walk(tt: &Timetable, ends: &Endpoints, depart_s: u32, p: &Params) -> Option<Journey> {
+fn direct_walk(q: Query) -> Option<Journey> {
+    let Query { tt, ends, depart_s, p, .. } = q;
     let walk = tt.walk(p.step_free.walk_profile());
     let mut best: Option<(u32, StopIdx, StopIdx)> = None;
     for &o in &ends.origins {
@@ -821,9 +821,9 @@ fn direct_walk(tt: &Timetable, ends: &Endpoints, depart_s: u32, p: &Params) -> O
 }
 
 /// The best journey leaving at or after `depart_s`, by generalised cost.
-pub fn earliest(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) -> Option<Journey> {
-    let ride = earliest_rides_only(tt, net, st, ends, depart_s, p);
-    let walk = direct_walk(tt, ends, depart_s, p);
+pub fn earliest(q: Query, st: &mut SearchState) -> Option<Journey> {
+    let ride = earliest_rides_only(q, st);
+    let walk = direct_walk(q);
     match (ride, walk) {
         (Some(r), Some(w)) => Some(if w.cost_s <= r.cost_s { w } else { r }),
         (r, w) => r.or(w),
@@ -831,7 +831,8 @@ pub fn earliest(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endp
 }
 
 /// When the rider must leave the origin for `j` (latest, given its first boarding).
-pub fn departure_of(tt: &Timetable, net: &Network, ends: &Endpoints, j: &Journey, p: &Params, depart_s: u32) -> u32 {
+pub fn departure_of(q: Query, j: &Journey) -> u32 {
+    let Query { tt, net, ends, depart_s, p } = q;
     if j.direct_walk.is_some() {
         return depart_s;
     }
@@ -866,19 +867,19 @@ pub fn access_walk_s(tt: &Timetable, ends: &Endpoints, s: StopIdx, p: &Params) -
 /// that one's departure, and so on ("next K departures"). An option that a later one beats on
 /// arrival and rides is dropped, so departures and arrivals both increase. A walk-only journey
 /// is listed once.
-pub fn options(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params, k: usize) -> Vec<Journey> {
+pub fn options(q: Query, st: &mut SearchState, k: usize) -> Vec<Journey> {
     let mut out: Vec<Journey> = Vec::new();
-    let mut t = depart_s;
+    let mut t = q.depart_s;
     let mut allow_walk = true;
     while out.len() < k {
-        let found = if allow_walk { earliest(tt, net, st, ends, t, p) } else { earliest_rides_only(tt, net, st, ends, t, p) };
+        let found = if allow_walk { earliest(q.leaving(t), st) } else { earliest_rides_only(q.leaving(t), st) };
         let Some(j) = found else { break };
         if j.direct_walk.is_some() {
             allow_walk = false;
             out.push(j);
             continue;
         }
-        t = departure_of(tt, net, ends, &j, p, t) + 1;
+        t = departure_of(q.leaving(t), &j) + 1;
         if out.iter().any(|o| o.nodes == j.nodes) {
             continue;
         }
@@ -891,15 +892,9 @@ pub fn options(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpo
     out
 }
 
-fn earliest_rides_only(
-    tt: &Timetable,
-    net: &Network,
-    st: &mut SearchState,
-    ends: &Endpoints,
-    depart_s: u32,
-    p: &Params,
-) -> Option<Journey> {
-    run(Query { tt, net, ends, depart_s, p, layers: 1, goal: Goal::Target }, st);
+fn earliest_rides_only(q: Query, st: &mut SearchState) -> Option<Journey> {
+    let Query { tt, net, ends, p, .. } = q;
+    run(Run { q, layers: 1, goal: Goal::Target }, st);
     let sink = st.sink(0);
     let c = st.cost_of(sink)?;
     let nodes = st.trace(sink);
@@ -910,20 +905,13 @@ fn earliest_rides_only(
 
 /// Pareto set over (arrival time, number of rides), fewest rides first. Runs a layered search
 /// (layer = rides so far) with no penalty, so its memory grows with `max_rides`.
-pub fn pareto(
-    tt: &Timetable,
-    net: &Network,
-    st: &mut SearchState,
-    ends: &Endpoints,
-    depart_s: u32,
-    p: &Params,
-    max_rides: u32,
-) -> Vec<Journey> {
-    let mut q = p.clone();
-    q.transfer_penalty_s = 0;
-    run(Query { tt, net, ends, depart_s, p: &q, layers: max_rides + 1, goal: Goal::Target }, st);
+pub fn pareto(q: Query, st: &mut SearchState, max_rides: u32) -> Vec<Journey> {
+    let Query { tt, net, ends, p, .. } = q;
+    let no_penalty = Params { transfer_penalty_s: 0, ..p.clone() };
+    let q = Query { p: &no_penalty, ..q };
+    run(Run { q, layers: max_rides + 1, goal: Goal::Target }, st);
     let mut out: Vec<Journey> = Vec::new();
-    if let Some(w) = direct_walk(tt, ends, depart_s, &q) {
+    if let Some(w) = direct_walk(q) {
         out.push(w);
     }
     for layer in 1..=max_rides {
@@ -932,7 +920,7 @@ pub fn pareto(
             continue;
         }
         let nodes = st.trace(sink);
-        let Some((arrival_s, _)) = sink_arrival(net, tt, st, &q, ends, sink) else { continue };
+        let Some((arrival_s, _)) = sink_arrival(net, tt, st, q.p, ends, sink) else { continue };
         if out.last().is_some_and(|b| b.arrival_s <= arrival_s) {
             continue;
         }
@@ -957,17 +945,18 @@ pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, or
 }
 
 /// Runs a target search and keeps all state, for tests that compare node costs.
-pub fn run_to_target(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) {
-    run(Query { tt, net, ends, depart_s, p, layers: 1, goal: Goal::Target }, st);
+pub fn run_to_target(q: Query, st: &mut SearchState) {
+    run(Run { q, layers: 1, goal: Goal::Target }, st);
 }
 
 /// Runs a search that settles every node within the time limit, keeping all state.
-pub fn run_all(tt: &Timetable, net: &Network, st: &mut SearchState, ends: &Endpoints, depart_s: u32, p: &Params) {
-    run(Query { tt, net, ends, depart_s, p, layers: 1, goal: Goal::All }, st);
+pub fn run_all(q: Query, st: &mut SearchState) {
+    run(Run { q, layers: 1, goal: Goal::All }, st);
 }
 
 /// The outgoing edges of a node with their costs, as the search relaxes them (for oracle tests).
-pub fn edges_of(tt: &Timetable, net: &Network, ends: &Endpoints, p: &Params, node: u32, out: &mut Vec<(u32, u32)>) {
+pub fn edges_of(q: Query, node: u32, out: &mut Vec<(u32, u32)>) {
+    let Query { tt, net, ends, p, .. } = q;
     out.clear();
     let ids = NodeIds::of(net);
     let walk = tt.walk(p.step_free.walk_profile());
