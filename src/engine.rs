@@ -218,7 +218,10 @@ impl Engine {
             }
             // A platform whose station matches equally is folded into the station.
             let n = &self.names[i];
-            let rank = if s.id == text.trim() || s.code.as_deref() == Some(text.trim()) {
+            let scoped = |t: &str| {
+                t.split_once(':').is_some_and(|(f, id)| id == s.id && self.tt.feeds.get(s.feed.idx()).is_some_and(|m| m.name == f))
+            };
+            let rank = if s.id == text.trim() || s.code.as_deref() == Some(text.trim()) || scoped(text.trim()) {
                 0
             } else if *n == q {
                 1
@@ -293,7 +296,7 @@ impl Engine {
                 return Ok(s);
             }
         }
-        let label = |m: &StopMatch| format!("{} [{}]", m.name, m.id);
+        let label = |m: &StopMatch| format!("{} [{}:{}]", m.name, m.feed, m.id);
         if !exact.is_empty() || !candidates.is_empty() {
             let list: Vec<String> = if exact.is_empty() {
                 candidates.iter().take(8).map(label).collect()
@@ -322,6 +325,11 @@ impl Engine {
             }
         }
         Err(QueryError::UnknownStop { text: t.to_string(), suggestions })
+    }
+
+    /// The stop `text` names, as [`Engine::resolve`] finds it, described for a picker.
+    pub fn resolve_match(&self, text: &str) -> Result<StopMatch, QueryError> {
+        self.resolve(text).map(|s| self.stop_match(s))
     }
 
     /// Where a search starts or ends for a stop: a station's entrances when it has any, else its

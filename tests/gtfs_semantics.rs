@@ -427,6 +427,7 @@ fn transfer_feed(trips: &[&str], transfers: Option<&str>) -> Feed {
         ("R5", "A,08:25:00", "D,08:55:00"),
         ("R6", "F,08:15:00", "D,08:45:00"),
         ("R7", "F,08:30:00", "D,09:00:00"),
+        ("R8", "B,08:11:30", "D,08:35:00"),
     ];
     let mut trip_rows = String::from("route_id,service_id,trip_id\n");
     let mut times = String::from("trip_id,stop_id,arrival_time,departure_time,stop_sequence\n");
@@ -541,7 +542,7 @@ fn transfer_type_2_with_a_long_min_transfer_time_keeps_its_link() {
 /// segment (min_s 0) next to the rule's link (min_s = min_transfer_time). Input: A and B 100 m
 /// apart, transfers.txt `A,B,2,600`. Expected (GTFS Schedule reference, transfer_type 2): the walk
 /// A → B takes at least 600 s, so R2 at 08:13 is missed and R2B at 08:25 arrives 08:50. Actual:
-/// the 101 s street walk, R2, 08:40. The demo city's rules (Lantern Square 180 s, Tram StopRef
+/// the 101 s street walk, R2, 08:40. The demo city's rules (Lantern Square 180 s, Tram Place
 /// 120 s, …) are affected the same way.
 #[test]
 fn transfer_type_2_min_transfer_time_between_nearby_stops_is_respected() {
@@ -558,6 +559,36 @@ fn transfer_type_2_min_transfer_time_between_nearby_stops_is_respected() {
     assert_eq!(arr, "08:50", "{it:?}");
     let walk = it.legs.iter().find(|l| l.kind != LegKind::Ride).expect("a walk A → B");
     assert!(walk.duration_s >= 600, "{walk:?}");
+}
+
+/// The feed's time wins over our estimate (issue: at two interchanges of a real feed, the walk
+/// estimate beat the operator's shorter `min_transfer_time` and the journey arrived minutes late).
+/// A and B are 100 m apart: our estimate is 130 m of street at 1.3 m/s, 100 s, so R1 (A 08:10)
+/// misses R8 (B 08:11:30) and takes R2 (08:40). With `A,B,2,60` the change takes the feed's 60 s.
+#[test]
+fn transfer_type_2_min_transfer_time_is_the_change_time_not_a_floor_under_our_estimate() {
+    let trips = ["R1", "R2", "R8"];
+    assert_eq!(arrival(transfer_feed(&trips, None)).0, "08:40", "control: the 100 s estimate misses R8");
+    // GTFS Schedule reference, transfers.txt: min_transfer_time is the time a typical rider needs
+    // to move between the two stops, buffer included (wording recalled from memory): 60 s here.
+    let (arr, it) = arrival(transfer_feed(&trips, Some("A,B,2,60")));
+    assert_eq!(arr, "08:35", "{it:?}");
+    let walk = it.legs.iter().find(|l| l.kind != LegKind::Ride).expect("a change A → B");
+    assert_eq!(walk.duration_s, 60, "{walk:?}");
+
+    // Slower riders (our rule, DEVELOPERS.md): the feed's time scaled by 1.3 m/s ÷ their speed;
+    // on the step-free path, the larger of that and our estimate along it.
+    let engine = transfer_feed(&trips, Some("A,B,2,60")).load();
+    let idx = |id: &str| timeweave::timetable::StopIdx(engine.tt.stops.iter().position(|s| s.id == id).expect("stop") as u32);
+    let link = |profile| engine.tt.walk(profile).between(idx("A"), idx("B")).copied().expect("a link A → B");
+    let standard = link(timeweave::timetable::WalkProfile::Standard);
+    assert_eq!(standard.duration_s(1.3), 60);
+    assert_eq!(standard.duration_s(2.0), 60, "a faster walker is not given less than the operator states");
+    assert_eq!(standard.duration_s(0.8), 98, "60 s × 1.3 / 0.8 = 97.5, rounded up");
+    let step_free = link(timeweave::timetable::WalkProfile::StepFreeLenient);
+    let estimate = (standard.length_m as f64 / 0.8).ceil() as u32;
+    assert!(estimate > 98, "{estimate}");
+    assert_eq!(step_free.duration_s(0.8), estimate, "the step-free path keeps our estimate when it is longer");
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -744,4 +775,61 @@ fn stop_times_rows_in_any_order_give_the_same_journeys_and_warnings() {
 
 fn departures_and_arrivals(r: &timeweave::engine::PlanResult) -> Vec<String> {
     r.journeys.iter().map(|i| format!("{}-{}", i.depart, i.arrive)).collect()
+}
+
+// ---------------------------------------------------------------------------------------------
+// Two versions of one feed
+
+fn versioned_feed(agency: &str, version: &str, trip: &str) -> Feed {
+    Feed::default()
+        .file("agency.txt", &format!("agency_id,agency_name,agency_url,agency_timezone\nTA,{agency},https://transit.example/,Etc/GMT-1\n"))
+        .one_route()
+        .file(
+            "stops.txt",
+            "stop_id,stop_name,stop_lat,stop_lon
+            A,Alder Quay,52.00,13.00
+            B,Birch Row,52.05,13.00",
+        )
+        .file(
+            "calendar.txt",
+            "service_id,monday,tuesday,wednesday,thursday,friday,saturday,sunday,start_date,end_date
+            WKD,1,1,1,1,1,1,1,20260101,20261231",
+        )
+        .file("trips.txt", &format!("route_id,service_id,trip_id\nR,WKD,{trip}\n"))
+        .file(
+            "stop_times.txt",
+            &format!(
+                "trip_id,stop_id,arrival_time,departure_time,stop_sequence\n{trip},A,08:00:00,08:00:00,1\n{trip},B,08:20:00,08:20:00,2\n"
+            ),
+        )
+        .file(
+            "feed_info.txt",
+            &format!(
+                "feed_publisher_name,feed_publisher_url,feed_lang,feed_version\nTest Publisher,https://transit.example/,en,{version}\n"
+            ),
+        )
+}
+
+/// Two versions of one agency's feed (this week's and next month's zip) would double the service
+/// if merged. The GTFS Schedule reference: trip_id identifies a trip and feed_info.txt's
+/// feed_version identifies the dataset's version, so the same agency with the same trip_ids, or
+/// the same publisher and version, is the same feed. Refused with a message naming both files;
+/// the feed loaded first keeps answering. Feeds of one publisher that only share service ids load.
+#[test]
+fn a_second_version_of_a_loaded_feed_is_refused() {
+    let mut engine = timeweave::Engine::new();
+    engine.load_zip("week-49", &versioned_feed("Test Transit", "2026.49", "T1").zip(), &mut |_, _| {}).expect("first version");
+    // Same agency, same trip_id, other feed_version.
+    let err = engine.load_zip("week-53", &versioned_feed("Test Transit", "2026.53", "T1").zip(), &mut |_, _| {}).expect_err("refused");
+    let msg = err.to_string();
+    assert!(msg.contains("week-53") && msg.contains("week-49") && msg.contains("T1"), "{msg}");
+    assert_eq!((err.0.file.as_deref(), err.0.field.as_deref()), (Some("trips.txt"), Some("trip_id")));
+    // Same publisher and feed_version, even with other agency and trips.
+    let err = engine.load_zip("copy", &versioned_feed("Other Transit", "2026.49", "X9").zip(), &mut |_, _| {}).expect_err("refused");
+    assert_eq!(err.0.file.as_deref(), Some("feed_info.txt"), "{err}");
+    assert_eq!(engine.tt.feeds.len(), 1, "nothing was appended");
+    assert_eq!(plan(&mut engine, &query("A", "B", "2026-06-10", "07:55"), StepFree::Off).journeys.len(), 1, "the first feed still answers");
+    // Another agency of the same publisher, sharing only the service id WKD: a different feed.
+    engine.load_zip("rail", &versioned_feed("Other Transit", "2026.49-rail", "R9").zip(), &mut |_, _| {}).expect("a different feed loads");
+    assert_eq!(engine.tt.feeds.len(), 2);
 }

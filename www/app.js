@@ -489,6 +489,13 @@ function formError(text, focus) {
   if (focus) focus.focus();
 }
 
+/** A stop's id as the engine reads it whatever feeds are loaded: `feed:stop_id`. */
+const scopedId = (m) => `${m.feed}:${m.id}`;
+
+/**
+ * The stop a field names: the one picked from its list, else the one its text names without
+ * doubt. Text that fits several stops is not guessed: the form says which, and the list opens.
+ */
 async function resolveStop(box, role) {
   if (box.stopId) return box.stopId;
   const text = box.text;
@@ -496,13 +503,24 @@ async function resolveStop(box, role) {
     formError(`Choose a stop to travel ${role}.`, box.input);
     return null;
   }
-  const matches = await client.searchStops(text, 1);
-  if (!matches || !matches.length) {
-    formError(`No stop matches "${text}" (${role}).`, box.input);
+  try {
+    const m = await client.resolveStop(text);
+    box.set(scopedId(m), labelFor(m));
+    return scopedId(m);
+  } catch (e) {
+    const issue = (e && e.issue) || {};
+    if (issue.AmbiguousStop) {
+      const names = (issue.AmbiguousStop.candidates || []).join('; ');
+      formError(`"${text}" fits several stops (${role}): ${names}. Pick one from the list.`, box.input);
+      box.input.dispatchEvent(new Event('input'));
+    } else if (issue.UnknownStop) {
+      const hint = (issue.UnknownStop.suggestions || []).length ? ` Did you mean: ${issue.UnknownStop.suggestions.join(', ')}?` : '';
+      formError(`No stop matches "${text}" (${role}).${hint}`, box.input);
+    } else {
+      formError(`The stop "${text}" (${role}) could not be looked up: ${e.message || e}`, box.input);
+    }
     return null;
   }
-  box.set(matches[0].id, labelFor(matches[0]));
-  return matches[0].id;
 }
 
 async function planFromForm() {
@@ -648,7 +666,7 @@ function fillForm(q) {
 async function stopLabel(id) {
   try {
     const matches = (await client.searchStops(id, 5)) || [];
-    const m = matches.find((x) => x.id === id);
+    const m = matches.find((x) => scopedId(x) === id || x.id === id);
     if (m) return labelFor(m);
   } catch { /* fall back below */ }
   return state.stopNames.get(id) || id;

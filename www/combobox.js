@@ -145,7 +145,8 @@ export class StopCombobox {
     const m = this.matches[i];
     if (!m) return;
     const label = labelFor(m);
-    this.chosen = { id: m.id, label };
+    // The feed-scoped id: two loaded feeds may share a stop_id, and a pick names one stop.
+    this.chosen = { id: `${m.feed}:${m.id}`, label };
     this.input.value = label;
     this.close();
     this.hint.textContent = `${label} chosen.`;
@@ -200,6 +201,8 @@ export function describeMatch(m) {
   if (m.kind === 'station') bits.push('station, all platforms');
   else if (m.kind && !['platform', 'stop'].includes(m.kind)) bits.push(String(m.kind).replace(/_/g, ' '));
   if (m.code) bits.push(`code ${m.code}`);
+  // Two loaded feeds may share a stop's name and id: the feed tells them apart.
+  if (m.feed) bits.push(`feed ${m.feed}`);
   return bits.join(' · ');
 }
 

@@ -115,6 +115,8 @@ export class EngineClient {
 
   feeds() { return this.#call('feeds', {}); }
   searchStops(text, limit) { return this.#call('search', { text, limit }); }
+  /** The one stop `text` names; rejects with EngineError (issue.AmbiguousStop / issue.UnknownStop) otherwise. */
+  resolveStop(text) { return this.#call('resolve', { text }); }
   plan(query) { return this.#call('plan', { query }); }
   sketch() { return this.#call('sketch', {}); }
 

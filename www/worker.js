@@ -62,6 +62,8 @@ function run(op, args, id) {
       return engine.feeds();
     case 'search':
       return engine.search_stops(args.text, args.limit);
+    case 'resolve':
+      return engine.resolve_stop(args.text);
     case 'plan':
       return engine.plan(args.query);
     case 'sketch':

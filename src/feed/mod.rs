@@ -66,11 +66,48 @@ fn load_files(
     progress: Progress,
 ) -> Result<FeedIdx, FeedError> {
     let feed = read_feed(name, &mut files, progress).map_err(FeedError)?;
+    if let Some(clash) = version_clash(tt, &feed) {
+        return Err(FeedError(clash));
+    }
     progress("building", 0.9);
     let idx = tt.append(feed);
     crate::timetable::walking::rebuild(tt, walk);
     progress("done", 1.0);
     Ok(idx)
+}
+
+/// A new feed that looks like another version of one already loaded, which would double the
+/// service if both were merged: the same `feed_info.txt` publisher and version, or an agency of
+/// the same name with `trip_id`s in common. Feeds that only share service ids (`WKD`) or a
+/// publisher are not versions of each other. Comparing two versions is a separate capability.
+fn version_clash(loaded: &Timetable, new: &Timetable) -> Option<FeedIssue> {
+    let meta = new.feeds.first()?;
+    let new_trips: std::collections::HashSet<&str> = new.trips.iter().map(|t| t.id.as_str()).collect();
+    for f in &loaded.feeds {
+        if let (Some(a), Some(b)) = (&f.edition, &meta.edition) {
+            if a == b {
+                let msg = format!(
+                    "has the same feed_info.txt (feed_publisher_name {:?}, feed_version {:?}) as the loaded feed {}; loading it again would run every trip twice. Remove {} first to load this one",
+                    a.0, a.1, f.name, f.name
+                );
+                return Some(FeedIssue::new(&meta.name, msg).file("feed_info.txt"));
+            }
+        }
+        let Some(agency) = meta.agencies.iter().find(|a| f.agencies.contains(a)) else { continue };
+        let (t0, t1) = f.trip_range;
+        let shared: Vec<&str> =
+            loaded.trips[t0 as usize..t1 as usize].iter().map(|t| t.id.as_str()).filter(|id| new_trips.contains(id)).collect();
+        if let Some(example) = shared.first() {
+            let msg = format!(
+                "looks like another version of the loaded feed {}: both have the agency {agency:?} and {} trip_id(s) in common (e.g. {example:?}); merging them would run those trips twice. Remove {} first, or load the two versions one at a time",
+                f.name,
+                shared.len(),
+                f.name
+            );
+            return Some(FeedIssue::new(&meta.name, msg).file("trips.txt").field("trip_id").value(example));
+        }
+    }
+    None
 }
 
 #[derive(Deserialize)]
@@ -127,6 +164,10 @@ struct CalendarDateRow {
 
 #[derive(Deserialize)]
 struct FeedInfoRow {
+    #[serde(default)]
+    feed_publisher_name: Option<String>,
+    #[serde(default)]
+    feed_version: Option<String>,
     #[serde(default)]
     feed_start_date: Option<String>,
     #[serde(default)]
@@ -617,8 +658,11 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
     // feed_info.txt: the feed's validity dates.
     stage(progress, "feed_info.txt");
     let mut dates: (Option<NaiveDate>, Option<NaiveDate>) = (None, None);
+    let mut edition: Option<(String, String)> = None;
     read_table(files, feed, "feed_info.txt", &[], &mut w, |_, f: FeedInfoRow, _| {
         dates = (f.feed_start_date.as_deref().and_then(parse_gtfs_date), f.feed_end_date.as_deref().and_then(parse_gtfs_date));
+        let nonempty = |v: Option<String>| v.map(|v| v.trim().to_string()).filter(|v| !v.is_empty());
+        edition = nonempty(f.feed_publisher_name).zip(nonempty(f.feed_version));
     })?;
     let first_date = dates.0.or_else(|| tt.services.iter().filter_map(Service::first_date).min());
     let last_date = dates.1.or_else(|| tt.services.iter().filter_map(Service::last_date).max());
@@ -644,6 +688,7 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
         name: feed.to_string(),
         timezone: tz,
         agencies: agencies.iter().map(|a| a.name.clone()).collect(),
+        edition,
         first_date,
         last_date,
         stops: tt.stops.len(),

@@ -213,6 +213,8 @@ pub struct FeedMeta {
     #[serde(serialize_with = "ser_tz")]
     pub timezone: Tz,
     pub agencies: Vec<String>,
+    /// `feed_info.txt`'s (feed_publisher_name, feed_version), when it gives both.
+    pub edition: Option<(String, String)>,
     pub first_date: Option<NaiveDate>,
     pub last_date: Option<NaiveDate>,
     pub stops: usize,

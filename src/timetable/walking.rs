@@ -83,8 +83,13 @@ pub struct Footpath {
     pub length_m: f32,
     /// Time that does not depend on walking speed (elevators), s.
     pub fixed_s: u32,
-    /// Lower bound from transfers.txt (transfer_type 2), s.
-    pub min_s: u32,
+    /// The time `transfers.txt` gives for this change (transfer_type 2, `min_transfer_time`), s;
+    /// [`NO_GIVEN_TIME`] when it gives none.
+    pub given_s: u32,
+    /// True in the standard profile: the feed's time replaces our estimate. In the step-free
+    /// profiles the path (and the rider) may be slower than the one the operator timed, so the
+    /// larger of the two counts.
+    pub given_only: bool,
     /// Worst accessibility of the link's parts.
     pub access: Access,
     pub steps_start: u32,
@@ -93,12 +98,34 @@ pub struct Footpath {
     pub street: bool,
 }
 
+/// `Footpath::given_s` when `transfers.txt` gives no time for the link.
+pub const NO_GIVEN_TIME: u32 = u32::MAX;
+
+/// The walking speed a feed's `min_transfer_time` is taken to be timed at: the standard profile's
+/// default, 1.3 m/s (common practice, no source). A slower rider takes the feed's time scaled by
+/// the ratio of the speeds; a faster one is not given less than the operator states.
+pub const GIVEN_TIME_SPEED_MPS: f64 = 1.3;
+
 impl Footpath {
-    /// Seconds to walk this link at `speed_mps`.
+    /// Seconds to walk this link at `speed_mps`. Where `transfers.txt` gives a time, the standard
+    /// profile takes that time (scaled up for a speed below [`GIVEN_TIME_SPEED_MPS`]); the
+    /// step-free profiles take the larger of it and our estimate along their own path.
     #[inline]
     pub fn duration_s(&self, speed_mps: f64) -> u32 {
-        let walk = (self.length_m as f64 / speed_mps).ceil() as u32 + self.fixed_s;
-        walk.max(self.min_s)
+        let estimate = (self.length_m as f64 / speed_mps).ceil() as u32 + self.fixed_s;
+        if self.given_s == NO_GIVEN_TIME {
+            return estimate;
+        }
+        let given = if speed_mps >= GIVEN_TIME_SPEED_MPS {
+            self.given_s
+        } else {
+            (self.given_s as f64 * GIVEN_TIME_SPEED_MPS / speed_mps).ceil() as u32
+        };
+        if self.given_only {
+            given
+        } else {
+            estimate.max(given)
+        }
     }
 }
 
@@ -195,7 +222,6 @@ struct Edge {
     to: u32,
     length_m: f32,
     fixed_s: u32,
-    min_s: u32,
     access: Access,
     /// `u32::MAX` for a street segment or transfer link.
     pathway: u32,
@@ -247,7 +273,6 @@ pub fn rebuild(tt: &mut Timetable, cfg: &WalkConfig) {
                                 to: b,
                                 length_m: (d * cfg.detour_factor) as f32,
                                 fixed_s: 0,
-                                min_s: 0,
                                 access,
                                 pathway: u32::MAX,
                                 reversed: false,
@@ -261,7 +286,7 @@ pub fn rebuild(tt: &mut Timetable, cfg: &WalkConfig) {
     for (i, pw) in tt.pathways.iter().enumerate() {
         let (access, _) = pathway_access(tt, PathwayIdx(i as u32), cfg);
         let (length_m, fixed_s) = pathway_cost(pw, cfg);
-        let e = |to: StopIdx, reversed| Edge { to: to.0, length_m, fixed_s, min_s: 0, access, pathway: i as u32, reversed };
+        let e = |to: StopIdx, reversed| Edge { to: to.0, length_m, fixed_s, access, pathway: i as u32, reversed };
         edges[pw.from.idx()].push(e(pw.to, false));
         if pw.bidirectional {
             edges[pw.to.idx()].push(e(pw.from, true));
@@ -315,7 +340,7 @@ fn closure(
     let mut pred: Vec<(u32, Edge)> = vec![(u32::MAX, edges_dummy()); 2 * n];
     let mut touched: Vec<u32> = Vec::new();
     let mut heap: BinaryHeap<Reverse<(u64, u32)>> = BinaryHeap::new();
-    let cost = |e: &Edge| e.length_m as f64 + e.fixed_s.max(e.min_s) as f64 * cfg.reference_speed_mps;
+    let cost = |e: &Edge| e.length_m as f64 + e.fixed_s as f64 * cfg.reference_speed_mps;
     for s in 0..n {
         set.first.push(set.paths.len() as u32);
         if !endpoint(s) || !allowed(profile, entrance_access(tt, s as u32)) && tt.stops[s].kind == StopKind::Entrance {
@@ -367,7 +392,8 @@ fn closure(
                 to: StopIdx(to),
                 length_m: 0.0,
                 fixed_s: 0,
-                min_s: 0,
+                given_s: NO_GIVEN_TIME,
+                given_only: false,
                 access: Access::Yes,
                 steps_start: set.steps.len() as u32,
                 steps_len: 0,
@@ -384,7 +410,6 @@ fn closure(
             for e in &chain {
                 fp.length_m += e.length_m;
                 fp.fixed_s += e.fixed_s;
-                fp.min_s += e.min_s;
                 fp.access = Access::worst(fp.access, e.access);
                 if e.pathway == u32::MAX {
                     fp.street = true;
@@ -406,9 +431,12 @@ fn closure(
 }
 
 /// transfers.txt rows between two different stops override the walking closure for that pair:
-/// transfer_type 3 removes the link, 1 and 2 make sure it exists (even past the walking limit)
-/// and takes at least min_transfer_time. The feed does not say whether such a link is step-free,
-/// so a link that exists only because of the rule is "unknown" (left out of the strict profile).
+/// transfer_type 3 removes the link, 1 and 2 make sure it exists (even past the walking limit);
+/// a transfer_type 2 `min_transfer_time` is the time the change takes (the GTFS Schedule
+/// reference: the time a typical rider needs to move between the two stops, buffer included),
+/// in place of our estimate in the standard profile and as a floor in the step-free ones
+/// ([`Footpath::duration_s`]). The feed does not say whether such a link is step-free, so a link
+/// that exists only because of the rule is "unknown" (left out of the strict profile).
 fn apply_link_rules(
     tt: &Timetable,
     cfg: &WalkConfig,
@@ -431,7 +459,10 @@ fn apply_link_rules(
                 set.paths.remove(i);
             }
             (TransferRule::Forbidden, None) => {}
-            (TransferRule::MinTime(m), Some(i)) => set.paths[i].min_s = set.paths[i].min_s.max(m),
+            (TransferRule::MinTime(m), Some(i)) => {
+                set.paths[i].given_s = m;
+                set.paths[i].given_only = profile == WalkProfile::Standard;
+            }
             (TransferRule::Timed, Some(_)) => {}
             (rule, None) => {
                 if !allowed(profile, Access::Unknown) || to.idx() == s {
@@ -439,12 +470,13 @@ fn apply_link_rules(
                 }
                 let (a, b) = (tt.stop(from), tt.stop(to));
                 let length_m = (haversine_m(a.lat, a.lon, b.lat, b.lon) * cfg.detour_factor) as f32;
-                let min_s = if let TransferRule::MinTime(m) = rule { m } else { 0 };
+                let given_s = if let TransferRule::MinTime(m) = rule { m } else { NO_GIVEN_TIME };
                 set.paths.push(Footpath {
                     to,
                     length_m,
                     fixed_s: 0,
-                    min_s,
+                    given_s,
+                    given_only: profile == WalkProfile::Standard,
                     access: Access::Unknown,
                     steps_start: set.steps.len() as u32,
                     steps_len: 0,
@@ -457,5 +489,5 @@ fn apply_link_rules(
 }
 
 fn edges_dummy() -> Edge {
-    Edge { to: 0, length_m: 0.0, fixed_s: 0, min_s: 0, access: Access::Yes, pathway: u32::MAX, reversed: false }
+    Edge { to: 0, length_m: 0.0, fixed_s: 0, access: Access::Yes, pathway: u32::MAX, reversed: false }
 }

@@ -98,6 +98,13 @@ impl Engine {
         to_js(&self.core.search_stops(text, limit))
     }
 
+    /// The one stop `text` names (an id, `feed:stop_id`, or a name that is not ambiguous).
+    /// Throws `{ message, AmbiguousStop: { text, candidates } }` or `{ message, UnknownStop: { text,
+    /// suggestions } }` otherwise, so the page can ask instead of guessing.
+    pub fn resolve_stop(&self, text: &str) -> Result<JsValue, JsValue> {
+        self.core.resolve_match(text).map_err(failure).and_then(|m| to_js(&m))
+    }
+
     /// Plans a journey. Throws `{ message, ... }` when the query itself is wrong (unknown stop,
     /// bad date); "no journey" is a normal result.
     pub fn plan(&mut self, query: JsValue) -> Result<JsValue, JsValue> {
