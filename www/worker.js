@@ -2,14 +2,15 @@
 // planning never blocks the page. The page talks to it only through engine-client.js.
 //
 // Protocol (structured-clone messages):
-//   page → worker  { id, op, args }            op: load | remove | feeds | search | plan | sketch
+//   page → worker  { id, op, args }            op: load | remove | feeds | search | resolve | plan | sketch
 //   worker → page  { type: 'ready' }           once the WASM module is instantiated
 //                  { type: 'init-failed', error }
 //                  { type: 'progress', id, stage, fraction }   during `load`
 //                  { type: 'result', id, ok: true, value }
 //                  { type: 'result', id, ok: false, error, fatal }
 // `error` is a plain object: a FeedIssue { file, line, field, value, message } when the engine
-// threw one, else { message, name }. `fatal` is true when the WASM instance itself trapped (a
+// threw one (a query error adds its detail: AmbiguousStop { text, candidates } or UnknownStop
+// { text, suggestions }), else { message, name }. `fatal` is true when the WASM instance itself trapped (a
 // Rust panic or out-of-memory); the page then replaces this worker and reloads its feeds.
 // Every engine call is synchronous, so requests are answered strictly in order.
 
@@ -117,5 +118,7 @@ function issue(o) {
     value: pick('value'),
     message: o.message != null ? String(o.message) : JSON.stringify(o),
   };
+  // A query error's typed detail (AmbiguousStop, UnknownStop, …) travels with it.
+  for (const k of ['AmbiguousStop', 'UnknownStop']) if (o[k] !== undefined) out[k] = o[k];
   return out;
 }
