@@ -72,7 +72,8 @@ pub enum Note {
     /// Lenient step-free: some legs rely on elements whose accessibility the feed does not state.
     LenientUnknownUsed,
     /// No journey arrives within the longest duration searched; the first journey found is
-    /// shown anyway (a long wait, or a long ride).
+    /// shown anyway (a long wait, or a long ride). `duration_s`: its arrival minus the time
+    /// asked for, waiting included.
     BeyondMaxDuration { max_duration_s: u32, duration_s: u32 },
 }
 
@@ -439,7 +440,7 @@ impl Engine {
             match self.why_none(date, &ends, depart_s, &p) {
                 Ok(why) => result.nothing_found = Some(why),
                 Err(beyond) => {
-                    result.notes.push(Note::BeyondMaxDuration { max_duration_s: p.max_duration_s, duration_s: beyond.duration_s });
+                    result.notes.push(Note::BeyondMaxDuration { max_duration_s: p.max_duration_s, duration_s: beyond.arrive_s - depart_s });
                     result.journeys.push(beyond);
                 }
             }

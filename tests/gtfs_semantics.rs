@@ -8,7 +8,7 @@ mod support;
 
 use chrono::{NaiveDate, TimeZone, Utc};
 use support::{departures, plan, query, Feed};
-use timeweave::engine::{NoJourney, Note};
+use timeweave::engine::{NoJourney, Note, PlanQuery};
 use timeweave::journey::{Fact, LegKind};
 use timeweave::route::search::StepFree;
 use timeweave::timetable::calendar::{clock_to_seconds, day_origin, seconds_to_clock};
@@ -832,4 +832,21 @@ fn a_second_version_of_a_loaded_feed_is_refused() {
     // Another agency of the same publisher, sharing only the service id WKD: a different feed.
     engine.load_zip("rail", &versioned_feed("Other Transit", "2026.49-rail", "R9").zip(), &mut |_, _| {}).expect("a different feed loads");
     assert_eq!(engine.tt.feeds.len(), 2);
+}
+
+/// A journey that exists must be found: with the only trip five hours after the query, the plan
+/// shows that journey with the note `beyond_max_duration` instead of hiding it; a longer
+/// `max_duration_s` makes it an ordinary answer. (The 4 h default is common practice, no source.)
+#[test]
+fn a_journey_beyond_the_longest_duration_is_shown_with_a_note() {
+    let mut engine = versioned_feed("Test Transit", "1", "T1").load();
+    let r = plan(&mut engine, &query("A", "B", "2026-06-10", "03:00"), StepFree::Off);
+    assert_eq!(r.journeys.len(), 1, "{r:?}");
+    assert_eq!((r.journeys[0].depart.as_str(), r.journeys[0].arrive.as_str()), ("08:00", "08:20"));
+    assert!(r.nothing_found.is_none());
+    assert_eq!(r.notes, vec![Note::BeyondMaxDuration { max_duration_s: 4 * 3600, duration_s: 5 * 3600 + 20 * 60 }]);
+    let longer = PlanQuery { max_duration_s: Some(6 * 3600), ..query("A", "B", "2026-06-10", "03:00") };
+    let r = plan(&mut engine, &longer, StepFree::Off);
+    assert_eq!(r.journeys.len(), 1);
+    assert!(r.notes.is_empty(), "{:?}", r.notes);
 }

@@ -316,11 +316,14 @@ impl Builder<'_> {
     pub fn build(&self, j: &Journey) -> Itinerary {
         let mut legs: Vec<Leg> = Vec::new();
         if let Some((o, t, d)) = j.direct_walk {
+            // The walk leaves when the search that found it did (a later option may be a walk
+            // found from a later time than the query's).
+            let leave = j.arrival_s - d;
             if o != t {
                 let f = self.footpath(o, t).map(|x| x.0);
-                legs.push(self.walk_leg(o, t, f, self.query_s, d));
+                legs.push(self.walk_leg(o, t, f, leave, d));
             }
-            return self.finish(j, legs, self.query_s);
+            return self.finish(j, legs, leave);
         }
         let net = self.net;
         // Ride segments: (board event, last ride event).

@@ -91,7 +91,7 @@ pub fn note_text(n: &Note) -> String {
     match n {
         Note::LenientUnknownUsed => "Some legs rely on elements whose accessibility the feed does not state (lenient step-free).".to_string(),
         Note::BeyondMaxDuration { max_duration_s, duration_s } => format!(
-            "Nothing arrives within the longest journey searched ({} min); the first journey found takes {} min and is shown anyway. Check whether the wait is acceptable.",
+            "Nothing arrives within the longest journey searched ({} min); the first journey found arrives {} min after the time asked for (waiting included) and is shown anyway.",
             max_duration_s / 60,
             duration_s.div_ceil(60)
         ),
