@@ -30,7 +30,7 @@ mod support;
 
 use std::collections::HashMap;
 
-use support::Feed;
+use support::{Feed, Rng};
 use timeweave::engine::{Engine, PlanQuery};
 use timeweave::route::search::{self, Endpoints, Params, Query, SearchState, StepFree};
 
@@ -44,25 +44,6 @@ const WALK_LIMIT_M: f64 = 800.0;
 const DEFAULT_CHANGE_S: i64 = 60;
 const PENALTY_S: i64 = 300;
 const HORIZON_S: i64 = 4 * 3600;
-
-struct Rng(u64);
-
-impl Rng {
-    fn next(&mut self) -> u64 {
-        // SplitMix64 (Steele, Lea, Flood 2014).
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    fn below(&mut self, n: u64) -> u64 {
-        self.next() % n
-    }
-    fn chance(&mut self, percent: u64) -> bool {
-        self.below(100) < percent
-    }
-}
 
 #[derive(Clone)]
 struct StopSpec {
@@ -99,7 +80,7 @@ fn random_feed(rng: &mut Rng, name: &'static str, prefix: &str) -> FeedSpec {
     // Stops on a grid of cells about 220 m apart, so neighbours are within the walking radius
     // and a change often needs a walk. Ids S0… are the same in both feeds.
     let n = 5 + rng.below(4) as usize;
-    let mut cells: Vec<(u64, u64)> = Vec::new();
+    let mut cells: Vec<(u32, u32)> = Vec::new();
     while cells.len() < n {
         let c = (rng.below(4), rng.below(4));
         if !cells.contains(&c) {
@@ -122,7 +103,7 @@ fn random_feed(rng: &mut Rng, name: &'static str, prefix: &str) -> FeedSpec {
         let len = 2 + rng.below(3) as usize;
         let mut seq: Vec<usize> = Vec::new();
         while seq.len() < len {
-            let s = rng.below(n as u64) as usize;
+            let s = rng.below(n as u32) as usize;
             if seq.last() != Some(&s) && !seq.contains(&s) {
                 seq.push(s);
             }
@@ -154,7 +135,7 @@ fn random_feed(rng: &mut Rng, name: &'static str, prefix: &str) -> FeedSpec {
     }
     let mut transfers = Vec::new();
     for _ in 0..rng.below(4) {
-        let (a, b) = (rng.below(n as u64) as usize, rng.below(n as u64) as usize);
+        let (a, b) = (rng.below(n as u32) as usize, rng.below(n as u32) as usize);
         let ty = [1u8, 2, 2, 3][rng.below(4) as usize];
         transfers.push((stops[a].id.clone(), stops[b].id.clone(), ty, 30 * (1 + rng.below(10) as i64)));
     }
@@ -433,7 +414,7 @@ fn the_engine_agrees_with_an_independent_model_of_the_feeds() {
         let mut st = SearchState::new();
         for _ in 0..12 {
             let (fa, fb) = (rng.below(2) as usize, rng.below(2) as usize);
-            let (a, b) = (rng.below(feeds[fa].stops.len() as u64) as usize, rng.below(feeds[fb].stops.len() as u64) as usize);
+            let (a, b) = (rng.below(feeds[fa].stops.len() as u32) as usize, rng.below(feeds[fb].stops.len() as u32) as usize);
             let (ida, idb) = (&feeds[fa].stops[a].id, &feeds[fb].stops[b].id);
             let t0 = if rng.chance(25) { 5 * 60 * rng.below(12) as i64 } else { 7 * 3600 + 60 * rng.below(90) as i64 };
             let (o, t) = (model.index[&(fa, ida.clone())], model.index[&(fb, idb.clone())]);

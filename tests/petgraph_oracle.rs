@@ -14,31 +14,12 @@ mod support;
 
 use chrono::NaiveDate;
 use petgraph::graph::{Graph, NodeIndex};
-use support::{hms, Feed};
+use support::{hms, Feed, Rng};
 use timeweave::graph::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
 use timeweave::route::bounds::UNREACHABLE;
 use timeweave::route::search::{self, decode, node_time, Endpoints, Node, Params, Query, SearchState, StepFree};
 use timeweave::timetable::{StopIdx, Timetable, NO_DROP_OFF};
 use timeweave::Engine;
-
-/// SplitMix64: a small deterministic generator, so the feed is the same on every run.
-struct Rng(u64);
-
-impl Rng {
-    fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    fn below(&mut self, n: u32) -> u32 {
-        (self.next() % n as u64) as u32
-    }
-    fn pick<'a>(&mut self, items: &[&'a str]) -> &'a str {
-        items[self.below(items.len() as u32) as usize]
-    }
-}
 
 const STOPS: u32 = 24;
 

@@ -111,3 +111,26 @@ pub fn demo(folder: &str) -> PathBuf {
 }
 pub mod badfeeds;
 pub mod replay;
+
+/// SplitMix64 (Steele, Lea, Flood 2014): a small deterministic generator, so random feeds are the
+/// same on every run.
+pub struct Rng(pub u64);
+
+impl Rng {
+    pub fn next(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^ (z >> 31)
+    }
+    pub fn below(&mut self, n: u32) -> u32 {
+        (self.next() % n as u64) as u32
+    }
+    pub fn chance(&mut self, percent: u32) -> bool {
+        self.below(100) < percent
+    }
+    pub fn pick<'a>(&mut self, items: &[&'a str]) -> &'a str {
+        items[self.below(items.len() as u32) as usize]
+    }
+}
