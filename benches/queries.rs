@@ -38,6 +38,7 @@ use petgraph::csr::Csr;
 use timeweave::engine::{Engine, PlanQuery};
 use timeweave::graph::{Network, LAST_OF_TRIP};
 use timeweave::route::search::{self, decode, Endpoints, Node, Params, SearchState, StepFree};
+use timeweave::route::{edges, options};
 use timeweave::timetable::calendar::clock_to_seconds;
 use timeweave::timetable::{FootpathSet, StopIdx, StopKind, Timetable, WalkProfile, NO_DROP_OFF, NO_PICKUP};
 use timeweave_synth::Preset;
@@ -385,7 +386,7 @@ impl PgGraph {
                     continue;
                 }
             }
-            search::edges_of(search::Query::new(tt, net, &no_ends, 0, p), node, &mut out);
+            edges::edges_of(search::Query::new(tt, net, &no_ends, 0, p), node, &mut out);
             row.clear();
             row.extend_from_slice(&out);
             if let Node::Ride(e) = kind {
@@ -575,7 +576,7 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
     // The first search sizes the reusable buffers; its RSS growth is their size.
     let rss_before = proc_status_bytes("VmRSS");
     let t = Instant::now();
-    let _ = search::earliest(search::Query::new(tt, &net, &ends(&qs[0]), qs[0].depart_s, &std_p), &mut st);
+    let _ = options::earliest(search::Query::new(tt, &net, &ends(&qs[0]), qs[0].depart_s, &std_p), &mut st);
     let first_search_s = t.elapsed().as_secs_f64();
     let search_state_rss = rss_before.zip(proc_status_bytes("VmRSS")).map(|(a, b)| b.saturating_sub(a));
 
@@ -585,19 +586,19 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
     let earliest = time_each(
         &qs,
         |q| {
-            let r = search::earliest(search::Query::new(tt, &net, &ends(q), q.depart_s, &std_p), &mut st);
+            let r = options::earliest(search::Query::new(tt, &net, &ends(q), q.depart_s, &std_p), &mut st);
             settled += st.settled;
             r
         },
         |_, r| found += usize::from(r.is_some()),
     );
     eprintln!("[{preset}] options k=3");
-    let options3 = time_each(&qs, |q| search::options(search::Query::new(tt, &net, &ends(q), q.depart_s, &std_p), &mut st, 3), |_, _| {});
+    let options3 = time_each(&qs, |q| options::options(search::Query::new(tt, &net, &ends(q), q.depart_s, &std_p), &mut st, 3), |_, _| {});
     eprintln!("[{preset}] step-free strict");
     let mut strict_found = 0;
     let strict = time_each(
         &qs,
-        |q| search::earliest(search::Query::new(tt, &net, &ends(q), q.depart_s, &strict_p), &mut st),
+        |q| options::earliest(search::Query::new(tt, &net, &ends(q), q.depart_s, &strict_p), &mut st),
         |_, r| strict_found += usize::from(r.is_some()),
     );
     eprintln!("[{preset}] one-to-all");
@@ -626,7 +627,7 @@ fn bench_preset(preset: Preset, run_criterion: bool) -> Report {
             b.iter(|| {
                 let q = &qs[i % qs.len()];
                 i += 1;
-                search::earliest(search::Query::new(tt, &net, &ends(q), q.depart_s, &std_p), &mut st)
+                options::earliest(search::Query::new(tt, &net, &ends(q), q.depart_s, &std_p), &mut st)
             })
         });
         g.finish();
@@ -732,7 +733,7 @@ fn baselines(preset: Preset, tt: &Timetable, net: &Network, st: &mut SearchState
     let mut csa_disagree = Vec::new();
     for q in qs {
         let t = Instant::now();
-        let ours = search::earliest(search::Query::new(tt, net, &ends(q), q.depart_s, &p0), st).map(|j| j.arrival_s);
+        let ours = options::earliest(search::Query::new(tt, net, &ends(q), q.depart_s, &p0), st).map(|j| j.arrival_s);
         ours_s.push(ms(t.elapsed()));
         let t = Instant::now();
         let theirs = csa.scan(&rules, q.from, Some(q.to), q.depart_s, horizon(q));

@@ -9,6 +9,7 @@ use unicode_normalization::UnicodeNormalization;
 use crate::error::{FeedError, QueryError};
 use crate::graph::Network;
 use crate::journey::{Builder, Check, Itinerary, LegKind, RouteRef};
+use crate::route::options;
 use crate::route::search::{self, Endpoints, Journey, Params, Query, SearchState, StepFree};
 use crate::timetable::calendar::{clock_to_seconds, parse_clock, parse_date};
 use crate::timetable::{Access, FeedMeta, StopIdx, StopKind, Timetable, WalkConfig};
@@ -407,7 +408,7 @@ impl Engine {
             let net = self.net.as_ref().expect("network built");
             // The layered search holds one label set per ride count; fewer layers on big networks.
             let max_rides = if net.events() > 1_000_000 { 3 } else { 5 };
-            let set = search::pareto(Query::new(&self.tt, net, &ends, depart_s, &p), &mut self.state, max_rides);
+            let set = options::pareto(Query::new(&self.tt, net, &ends, depart_s, &p), &mut self.state, max_rides);
             result.fewest_rides = set.iter().map(|j| self.build(j, &ends, &p, depart_s)).collect();
         }
         if q.step_free != StepFree::Off {
@@ -450,7 +451,7 @@ impl Engine {
 
     fn run_options(&mut self, ends: &Endpoints, depart_s: u32, p: &Params, k: usize) -> Vec<Journey> {
         let net = self.net.as_ref().expect("network built");
-        search::options(Query::new(&self.tt, net, ends, depart_s, p), &mut self.state, k)
+        options::options(Query::new(&self.tt, net, ends, depart_s, p), &mut self.state, k)
     }
 
     fn build(&self, j: &Journey, ends: &Endpoints, p: &Params, depart_s: u32) -> Itinerary {
@@ -496,7 +497,7 @@ impl Engine {
         }
         let mut longer = p.clone();
         longer.max_duration_s = 48 * 3600;
-        if let Some(j) = search::earliest(Query::new(&self.tt, net, ends, depart_s, &longer), &mut self.state) {
+        if let Some(j) = options::earliest(Query::new(&self.tt, net, ends, depart_s, &longer), &mut self.state) {
             return Err(self.build(&j, ends, &longer, depart_s));
         }
         Ok(NoJourney::NoConnection)

@@ -22,6 +22,7 @@ use proptest::sample::Index;
 use proptest::test_runner::TestRunner;
 use support::{hms, query, Feed};
 use timeweave::graph::Network;
+use timeweave::route::options;
 use timeweave::route::search::{self, Endpoints, Params, Query, SearchState};
 use timeweave::timetable::StopIdx;
 
@@ -181,7 +182,7 @@ fn earliest_arrival_equals_connection_scan() {
                 let net = Network::build(tt, NaiveDate::parse_from_str(DATE, "%Y-%m-%d").expect("date"));
                 let idx = |i: usize| StopIdx(tt.stops.iter().position(|s| s.id == format!("S{i}")).expect("stop") as u32);
                 let ends = Endpoints { origins: vec![idx(c.origin)], targets: vec![idx(c.target)] };
-                search::earliest(Query::new(tt, &net, &ends, depart_s, &p), &mut SearchState::new()).map(|j| j.arrival_s)
+                options::earliest(Query::new(tt, &net, &ends, depart_s, &p), &mut SearchState::new()).map(|j| j.arrival_s)
             };
             prop_assert_eq!(got, want, "search::earliest");
             // The same through the front door, options 1.
@@ -211,7 +212,7 @@ fn every_node_of_a_returned_path_has_its_one_to_all_cost() {
             let depart_s = c.depart_min * 60;
             let p = Params { transfer_penalty_s: c.penalty_s, ..Params::default() };
             let mut st = SearchState::new();
-            let Some(j) = search::earliest(Query::new(tt, &net, &ends, depart_s, &p), &mut st) else { return Ok(()) };
+            let Some(j) = options::earliest(Query::new(tt, &net, &ends, depart_s, &p), &mut st) else { return Ok(()) };
             let in_target: Vec<Option<u32>> = j.nodes.iter().map(|&n| st.cost_of(n)).collect();
             prop_assert!(in_target.iter().all(Option::is_some), "a path node without a cost: {:?}", in_target);
             search::run_all(Query::new(tt, &net, &ends, depart_s, &p), &mut st);

@@ -32,7 +32,8 @@ use std::collections::HashMap;
 
 use support::{Feed, Rng};
 use timeweave::engine::{Engine, PlanQuery};
-use timeweave::route::search::{self, Endpoints, Params, Query, SearchState, StepFree};
+use timeweave::route::options;
+use timeweave::route::search::{Endpoints, Params, Query, SearchState, StepFree};
 
 /// Wednesday 2026-06-10; the previous day is a Tuesday.
 const DATE: &str = "2026-06-10";
@@ -428,13 +429,13 @@ fn the_engine_agrees_with_an_independent_model_of_the_feeds() {
 
             // 1. Earliest arrival, no penalty.
             let zero = Params { transfer_penalty_s: 0, ..Params::default() };
-            let ours = search::earliest(Query::new(&engine.tt, &net, &ends, t0 as u32, &zero), &mut st).map(|j| j.arrival_s as i64);
+            let ours = options::earliest(Query::new(&engine.tt, &net, &ends, t0 as u32, &zero), &mut st).map(|j| j.arrival_s as i64);
             let rides = model.by_rides(o, t, t0, 8);
             let oracle = rides.iter().flatten().min().copied();
             assert_eq!(ours, oracle, "{what}: earliest arrival (penalty 0)");
 
             // 2. The fewest-rides set: earliest arrival per number of rides, each earlier than with fewer.
-            let set = search::pareto(Query::new(&engine.tt, &net, &ends, t0 as u32, &zero), &mut st, 4);
+            let set = options::pareto(Query::new(&engine.tt, &net, &ends, t0 as u32, &zero), &mut st, 4);
             let ours: Vec<(u32, i64)> = set.iter().map(|j| (j.rides, j.arrival_s as i64)).collect();
             let mut want: Vec<(u32, i64)> = Vec::new();
             for (k, a) in rides.iter().enumerate().take(5) {

@@ -18,6 +18,7 @@ use support::{hms, Feed, Rng};
 use timeweave::graph::{Network, HAS_RULES, LAST_OF_TRIP, STEP_FREE_UNKNOWN, STEP_FREE_YES};
 use timeweave::route::bounds::UNREACHABLE;
 use timeweave::route::search::{self, decode, node_time, Endpoints, Node, Params, Query, SearchState, StepFree};
+use timeweave::route::{edges, options};
 use timeweave::timetable::{StopIdx, Timetable, NO_DROP_OFF};
 use timeweave::Engine;
 
@@ -147,7 +148,7 @@ fn oracle_graph(tt: &Timetable, net: &Network, ends: &Endpoints, depart_s: u32, 
                 continue;
             }
         }
-        search::edges_of(Query::new(tt, net, ends, 0, p), node, &mut out);
+        edges::edges_of(Query::new(tt, net, ends, 0, p), node, &mut out);
         for &(to, w) in &out {
             let within = match (decode(net, node).1, decode(net, to).1) {
                 (Node::Ride(e), Node::Sink) => net.arr(e as usize + 1) <= horizon,
@@ -401,7 +402,7 @@ fn boardings_bounds_never_exceed_the_fewest_boardings_petgraph_finds() {
             for e in g.raw_edges() {
                 let (a, z) = (e.source().index() as u32, e.target().index() as u32);
                 if a < nodes {
-                    let boards = u32::from(search::is_boarding(&net, a, z));
+                    let boards = u32::from(options::is_boarding(&net, a, z));
                     assert!(
                         bound(a) <= bound(z) + boards,
                         "bound drops by more than {boards} on {:?} → {:?} (target {t})",
@@ -510,7 +511,7 @@ fn edges_of_is_defined_on_every_node() {
     let p = Params::default();
     let mut out = Vec::new();
     for node in 0..2 * net.events() as u32 + 1 {
-        search::edges_of(Query::new(&engine.tt, &net, &ends, 0, &p), node, &mut out);
+        edges::edges_of(Query::new(&engine.tt, &net, &ends, 0, &p), node, &mut out);
         if let Node::Ride(e) = decode(&net, node).1 {
             if net.flags(e as usize) & LAST_OF_TRIP != 0 {
                 assert!(out.is_empty(), "Ride({e}) is the last event of its trip: no edge leaves it, got {out:?}");

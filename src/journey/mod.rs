@@ -8,7 +8,8 @@
 use serde::Serialize;
 
 use crate::graph::Network;
-use crate::route::search::{access_walk_s, decode, is_boarding, Node};
+use crate::route::options::{access_walk_s, is_boarding};
+use crate::route::search::{decode, Node};
 use crate::route::{Endpoints, Journey, Params};
 use crate::timetable::calendar::seconds_to_clock;
 use crate::timetable::walking::{pathway_access, PathwayFinding};

@@ -11,6 +11,7 @@
 pub mod boardings;
 pub mod bounds;
 pub mod edges;
+pub mod options;
 pub mod query;
 pub mod radix_heap;
 pub mod search;
