@@ -12,7 +12,7 @@ use crate::journey::{Builder, Check, Itinerary, LegKind, RouteRef};
 use crate::route::options;
 use crate::route::search::{self, Endpoints, Journey, Params, Query, SearchState, StepFree};
 use crate::timetable::calendar::{clock_to_seconds, parse_clock, parse_date};
-use crate::timetable::{Access, FeedMeta, StopIdx, StopKind, Timetable, WalkConfig};
+use crate::timetable::{Access, FeedMeta, Stop, StopIdx, StopKind, Timetable, WalkConfig};
 
 /// A planning request as the page and the CLI send it. Missing fields take the defaults of
 /// [`Params::new`] (stated in DEVELOPERS.md, `timeweave plan --help` and beside the page's fields).
@@ -220,10 +220,7 @@ impl Engine {
             }
             // A platform whose station matches equally is folded into the station.
             let n = &self.names[i];
-            let scoped = |t: &str| {
-                t.split_once(':').is_some_and(|(f, id)| id == s.id && self.tt.feeds.get(s.feed.idx()).is_some_and(|m| m.name == f))
-            };
-            let rank = if s.id == text.trim() || s.code.as_deref() == Some(text.trim()) || scoped(text.trim()) {
+            let rank = if self.names_by_id(s, text.trim()) || s.code.as_deref() == Some(text.trim()) {
                 0
             } else if *n == q {
                 1
@@ -265,15 +262,7 @@ impl Engine {
     /// Resolves a stop given by id (`id` or `feed:id`) or by name.
     pub fn resolve(&self, text: &str) -> Result<StopIdx, QueryError> {
         let t = text.trim();
-        let scoped = t.split_once(':');
-        let by_id: Vec<usize> = self
-            .tt
-            .stops
-            .iter()
-            .enumerate()
-            .filter(|(_, s)| s.id == t || scoped.is_some_and(|(f, id)| s.id == id && self.tt.feeds[s.feed.idx()].name == f))
-            .map(|(i, _)| i)
-            .collect();
+        let by_id: Vec<usize> = self.tt.stops.iter().enumerate().filter(|(_, s)| self.names_by_id(s, t)).map(|(i, _)| i).collect();
         if by_id.len() == 1 {
             return Ok(StopIdx(by_id[0] as u32));
         }
@@ -327,6 +316,12 @@ impl Engine {
             }
         }
         Err(QueryError::UnknownStop { text: t.to_string(), suggestions })
+    }
+
+    /// True when `text` is the stop's id, plain (`stop_id`) or scoped to its feed (`feed:stop_id`).
+    fn names_by_id(&self, s: &Stop, text: &str) -> bool {
+        s.id == text
+            || text.split_once(':').is_some_and(|(f, id)| id == s.id && self.tt.feeds.get(s.feed.idx()).is_some_and(|m| m.name == f))
     }
 
     /// The stop `text` names, as [`Engine::resolve`] finds it, described for a picker.

@@ -32,8 +32,6 @@ pub use patterns::Patterns;
 use crate::timetable::calendar::{day_origin, origin_offset_s};
 use crate::timetable::{Access, StopIdx, Timetable, TripIdx, NO_DROP_OFF, NO_PICKUP};
 
-/// The next day's trips that leave before this time on the date's timeline are included: 30 h,
-/// i.e. 06:00 of the next day.
 static NEXT_ID: AtomicU64 = AtomicU64::new(1);
 
 /// A process-unique id, so caches can tell one built network from another.
@@ -41,6 +39,8 @@ pub fn next_id() -> u64 {
     NEXT_ID.fetch_add(1, Ordering::Relaxed)
 }
 
+/// The next day's trips that leave before this time on the date's timeline are included: 30 h,
+/// i.e. 06:00 of the next day.
 pub const NEXT_DAY_HORIZON_S: i64 = 30 * 3600;
 
 /// Flags per network event (in addition to the timetable's pickup/drop-off bits).
