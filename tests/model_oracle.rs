@@ -508,3 +508,68 @@ fn the_engine_agrees_with_an_independent_model_of_the_feeds() {
     assert!(across_feeds >= 100, "only {across_feeds} journeys crossed feeds");
     assert!(night >= 20, "only {night} journeys ran after midnight");
 }
+
+/// Travel times over a window, with and without a cap on the rides, against the model leaving at
+/// each departure alone: the profile search explores the window's departures together (latest
+/// first, keeping what a later one reached), the model starts afresh at each.
+#[test]
+fn window_travel_times_equal_the_model_at_every_departure() {
+    let mut rng = Rng(0x7769_6e64);
+    let (mut compared, mut reached, mut capped_differs) = (0, 0, 0);
+    for case in 0..100 {
+        let feeds = [random_feed(&mut rng, "east", "E"), random_feed(&mut rng, "west", "W")];
+        let mut engine = Engine::new();
+        for f in &feeds {
+            engine.load_zip(f.name, &to_feed(f).zip(), &mut |_, _| {}).unwrap_or_else(|e| panic!("case {case}: {e}"));
+        }
+        let model = build_model(&feeds);
+        let net = timeweave::graph::Network::build(&engine.tt, chrono::NaiveDate::from_ymd_opt(2026, 6, 10).expect("date"));
+        let mut st = SearchState::new();
+        let fa = rng.below(2) as usize;
+        let a = rng.below(feeds[fa].stops.len() as u32) as usize;
+        let from = format!("{}:{}", feeds[fa].name, feeds[fa].stops[a].id);
+        let o = model.index[&(fa, feeds[fa].stops[a].id.clone())];
+        let origins = engine.endpoints_of(engine.resolve(&from).expect("origin"));
+        let start = if rng.chance(25) { 60 * rng.below(60) } else { 7 * 3600 + 60 * rng.below(90) };
+        let mut departures = vec![start];
+        for _ in 0..11 {
+            departures.push(departures.last().copied().unwrap_or(start) + 60 * (1 + rng.below(5)));
+        }
+        let cap = [None, Some(0u8), Some(1), Some(1), Some(2)][rng.below(5) as usize];
+        let p = Params { transfer_penalty_s: 0, ..Params::default() };
+        let mut arrivals: Vec<Vec<u32>> = vec![Vec::new(); departures.len()];
+        let w = timeweave::route::search::Window { origins: &origins, departures: &departures, max_rides: cap };
+        timeweave::route::search::profile(&engine.tt, &net, &mut st, w, &p, |i, _, arr| arrivals[i] = arr.to_vec());
+        for _ in 0..6 {
+            let fb = rng.below(2) as usize;
+            let b = rng.below(feeds[fb].stops.len() as u32) as usize;
+            let to = format!("{}:{}", feeds[fb].name, feeds[fb].stops[b].id);
+            let t = model.index[&(fb, feeds[fb].stops[b].id.clone())];
+            let targets = engine.endpoints_of(engine.resolve(&to).expect("target"));
+            for (i, &t0) in departures.iter().enumerate() {
+                let limit = t0 + p.max_duration_s;
+                let ours = targets.iter().map(|s| arrivals[i][s.idx()]).min().filter(|&x| x <= limit);
+                let by_rides = model.by_rides(o, t, t0 as i64, cap.map_or(8, usize::from));
+                let want = by_rides.iter().flatten().min().copied().filter(|&x| x <= limit as i64);
+                assert_eq!(
+                    ours.map(i64::from),
+                    want,
+                    "case {case}: {from} → {to} leaving {} (departure {i}), at most {cap:?} rides",
+                    clock(t0 as i64)
+                );
+                compared += 1;
+                reached += usize::from(want.is_some());
+                if cap.is_some()
+                    && want != model.by_rides(o, t, t0 as i64, 8).iter().flatten().min().copied().filter(|&x| x <= limit as i64)
+                {
+                    capped_differs += 1;
+                }
+            }
+        }
+    }
+    eprintln!(
+        "window: {compared} departures compared, {reached} with a journey, {capped_differs} where the cap on rides changed the answer"
+    );
+    assert!(reached > 1000, "only {reached} departures with a journey");
+    assert!(capped_differs > 30, "the cap on rides changed only {capped_differs} answers; the check would be weak");
+}

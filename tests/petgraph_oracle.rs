@@ -238,6 +238,21 @@ fn compare_to_target(
 /// stops were reached.
 fn compare_sweep(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u32, p: &Params) -> usize {
     let ends = Endpoints { origins: origins.to_vec(), targets: vec![] };
+    let oracle = petgraph_arrivals(tt, net, origins, depart_s, p);
+    let mut st = SearchState::new();
+    let swept = search::one_to_all(tt, net, &mut st, origins, depart_s, p).to_vec();
+    for s in 0..tt.stops.len() {
+        assert_eq!(swept[s], oracle[s], "earliest arrival at {}, query {depart_s} from {origins:?}, {p:?}", tt.stops[s].id);
+    }
+    // And Dijkstra's own one-to-all gives the same arrivals.
+    search::run_all(Query::new(tt, net, &ends, depart_s, p), &mut st);
+    assert_eq!(&st.stop_arrivals()[..tt.stops.len()], &swept[..], "run_all's arrivals");
+    oracle.iter().filter(|&&t| t != u32::MAX).count()
+}
+
+/// Earliest arrival per stop read off the nodes petgraph's Dijkstra reaches (see [`compare_sweep`]).
+fn petgraph_arrivals(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u32, p: &Params) -> Vec<u32> {
+    let ends = Endpoints { origins: origins.to_vec(), targets: vec![] };
     let (g, source) = oracle_graph(tt, net, &ends, depart_s, p);
     // petgraph::algo::dijkstra as an independent reference implementation of reachability.
     let dist = petgraph::algo::dijkstra(&g, source, None, |e| *e.weight());
@@ -266,15 +281,7 @@ fn compare_sweep(tt: &Timetable, net: &Network, origins: &[StopIdx], depart_s: u
         arrive(v, ta);
         walks(v).for_each(|(to, d)| arrive(to, ta + d));
     }
-    let mut st = SearchState::new();
-    let swept = search::one_to_all(tt, net, &mut st, origins, depart_s, p).to_vec();
-    for s in 0..tt.stops.len() {
-        assert_eq!(swept[s], oracle[s], "earliest arrival at {}, query {depart_s} from {origins:?}, {p:?}", tt.stops[s].id);
-    }
-    // And Dijkstra's own one-to-all gives the same arrivals.
-    search::run_all(Query::new(tt, net, &ends, depart_s, p), &mut st);
-    assert_eq!(&st.stop_arrivals()[..tt.stops.len()], &swept[..], "run_all's arrivals");
-    oracle.iter().filter(|&&t| t != u32::MAX).count()
+    oracle
 }
 
 fn stop(tt: &Timetable, id: &str) -> StopIdx {
@@ -365,6 +372,57 @@ fn one_to_all_sweep_arrivals_equal_petgraph_reachability() {
         let reached = compare_sweep(tt, &net, &origins, depart_s, &p);
         assert!(reached > 5, "only {reached} stops reached from {origins:?} at {depart_s}; the comparison would be weak");
     }
+}
+
+/// The profile search over a window against petgraph, departure by departure: what it reports
+/// for each departure (read up to that departure's own time limit) must be what petgraph's
+/// Dijkstra reaches leaving at that departure alone. The window's departures are irregular (steps
+/// of 0–7 min, some repeated) and run past midnight in one case.
+#[test]
+fn profile_arrivals_equal_petgraph_reachability_at_every_departure() {
+    let engine: Engine = random_feed(0x7157_2026).load();
+    let tt = &engine.tt;
+    let net = Network::build(tt, NaiveDate::from_ymd_opt(2026, 6, 10).expect("date"));
+    let cases: Vec<(Vec<&str>, u32, Params)> = vec![
+        (vec!["S0"], 7 * 3600, Params::default()),
+        (vec!["S4"], 6 * 3600 + 1800, Params { max_walk_m: 500.0, walk_speed_mps: 0.9, max_duration_s: 2400, ..Params::default() }),
+        (vec!["S10"], 7 * 3600 + 900, Params::new(StepFree::Strict)),
+        (vec!["S12"], 23 * 3600 + 1500, Params { max_duration_s: 3 * 3600, ..Params::new(StepFree::Lenient) }),
+        (vec!["S5", "S9"], 8 * 3600 + 17, Params { max_duration_s: 1800, ..Params::default() }),
+        (vec!["S13"], 9 * 3600, Params { max_walk_m: 0.0, ..Params::default() }),
+    ];
+    let mut rng = Rng(0x7072_6f66);
+    let mut st = SearchState::new();
+    let mut compared = 0;
+    for (origins, start, p) in cases {
+        let origins: Vec<StopIdx> = origins.iter().map(|id| stop(tt, id)).collect();
+        let mut departures = vec![start];
+        for _ in 0..14 {
+            departures.push(departures.last().copied().unwrap_or(start) + 60 * rng.below(8));
+        }
+        let mut got: Vec<Vec<u32>> = vec![Vec::new(); departures.len()];
+        let w = search::Window { origins: &origins, departures: &departures, max_rides: None };
+        search::profile(tt, &net, &mut st, w, &p, |i, t, arrival| {
+            let limit = t + p.max_duration_s;
+            got[i] = arrival.iter().map(|&a| if a > limit { u32::MAX } else { a }).collect();
+        });
+        for (i, &t) in departures.iter().enumerate() {
+            // The window reads an arrival past the time limit as none; the sweep keeps a walk that
+            // starts within the limit and ends past it, so the oracle's arrivals are cut the same way.
+            let limit = t + p.max_duration_s;
+            let oracle: Vec<u32> =
+                petgraph_arrivals(tt, &net, &origins, t, &p).into_iter().map(|a| if a > limit { u32::MAX } else { a }).collect();
+            for s in 0..tt.stops.len() {
+                assert_eq!(
+                    got[i][s], oracle[s],
+                    "arrival at {} leaving {t} (departure {i} of the window) from {origins:?}, {p:?}",
+                    tt.stops[s].id
+                );
+            }
+            compared += oracle.iter().filter(|&&a| a != u32::MAX).count();
+        }
+    }
+    assert!(compared > 1000, "only {compared} stop arrivals compared; the check would be weak");
 }
 
 /// The boardings bounds of the goal-directed search against the fewest boardings petgraph

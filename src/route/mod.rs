@@ -1,5 +1,6 @@
 //! Searches on one date's network: point-to-point Dijkstra on generalised cost (goal-directed),
-//! the next options and the fewest-rides set ([`search`]), the one-to-all sweep ([`sweep`]),
+//! the next options and the fewest-rides set ([`search`]), the one-to-all sweep ([`sweep`]), the self-pruning profile over a
+//! window of departures ([`profile`]),
 //! what they prepare once per network and walking setting ([`bounds`], [`boardings`]) and the
 //! monotone priority queue ([`radix_heap`]).
 //!
@@ -12,6 +13,7 @@ pub mod boardings;
 pub mod bounds;
 pub mod edges;
 pub mod options;
+pub mod profile;
 pub mod query;
 pub mod radix_heap;
 pub mod search;

@@ -26,6 +26,7 @@ use crate::graph::{Network, NodeIds, HAS_RULES, LAST_OF_TRIP};
 use crate::route::boardings::Boardings;
 use crate::route::bounds::{Active, Anchor, Landmarks, Prepared, Tentative, WalkLinks, EXACT_ACTIVE, UNREACHABLE};
 use crate::route::edges::{event_ok, rule_boardings};
+use crate::route::profile::{self, ProfileBuffers, ProfileQuery};
 pub use crate::route::query::{weighted_walk_s, Endpoints, Journey, Params, Query, StepFree, WalkKey};
 use crate::route::radix_heap::RadixHeap;
 use crate::route::sweep::{self, SweepBuffers};
@@ -74,6 +75,8 @@ pub struct SearchState {
     entering: Vec<Entering>,
     /// Buffers of the one-to-all sweep.
     sweep: SweepBuffers,
+    /// Buffers of the profile search over a window.
+    profile: ProfileBuffers,
     pub settled: u64,
 }
 
@@ -784,6 +787,25 @@ pub fn one_to_all<'s>(tt: &Timetable, net: &Network, st: &'s mut SearchState, or
     sweep::one_to_all(&q, &mut st.sweep, &mut st.stop_arrival[..n]);
     st.give_back(prep);
     &st.stop_arrival[..n]
+}
+
+/// What a profile search over a time window asks: from which stops, at which departures
+/// (ascending, on the network's timeline), with at most how many rides (`None`: any).
+#[derive(Debug, Clone, Copy)]
+pub struct Window<'a> {
+    pub origins: &'a [StopIdx],
+    pub departures: &'a [u32],
+    pub max_rides: Option<u8>,
+}
+
+/// Earliest arrival at every stop for each departure of the window, by the self-pruning profile
+/// search ([`profile`]): calls `each(i, depart_s, arrival)` from the last departure to the first.
+/// An arrival later than `depart_s + p.max_duration_s` is to be read as not reached.
+pub fn profile(tt: &Timetable, net: &Network, st: &mut SearchState, w: Window, p: &Params, each: impl FnMut(usize, u32, &[u32])) {
+    let prep = st.take_prepared(tt, net, p.walk_key(net), false);
+    let q = ProfileQuery { tt, net, walk: &prep.walk, origins: w.origins, departures: w.departures, p, max_rides: w.max_rides };
+    profile::profile(&q, &mut st.profile, each);
+    st.give_back(prep);
 }
 
 /// Runs a target search and keeps all state, for tests that compare node costs.

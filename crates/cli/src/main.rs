@@ -7,6 +7,8 @@ use clap::{Parser, Subcommand};
 use timeweave::engine::{Engine, PlanQuery};
 use timeweave::route::StepFree;
 
+mod window;
+
 #[derive(Parser)]
 #[command(name = "timeweave", version, about = "Journey planning and service connectivity over GTFS timetables", after_help = TIMES)]
 struct Cli {
@@ -15,6 +17,8 @@ struct Cli {
 }
 
 /// How times read, for every command's help.
+const WINDOW_HELP: &str = const_format::concatcp!(TIMES, "\n\n", window::DEFINITIONS);
+
 const TIMES: &str = "Times: a departure is local clock time (HH:MM) in the first feed's agency_timezone on the service date. \
 Durations print in whole minutes, rounded up for walks and reach; *_s fields in --json are seconds, and *_s times count from noon minus 12 h of the service date (the GTFS service-day origin).";
 
@@ -101,8 +105,9 @@ enum Command {
         #[arg(long)]
         json: bool,
     },
-    /// Every stop reachable from a stop within a time limit (earliest arrival, no change penalty).
-    #[command(after_help = TIMES)]
+    /// Every stop reachable from a stop: at one departure within a time limit (--at), or over a
+    /// window of departures with the shortest time and percentiles per place (--window).
+    #[command(after_help = WINDOW_HELP)]
     Reach {
         #[command(flatten)]
         feeds: Feeds,
@@ -112,18 +117,54 @@ enum Command {
         /// Service date, YYYY-MM-DD.
         #[arg(long)]
         date: String,
-        /// Departure, local clock time HH:MM.
-        #[arg(long)]
-        at: String,
-        /// Time limit, minutes (arrival minus departure, rounded up).
+        /// One departure, local clock time HH:MM (or give --window).
+        #[arg(long, conflicts_with = "window")]
+        at: Option<String>,
+        /// Time limit with --at, minutes (arrival minus departure, rounded up).
         #[arg(long, default_value_t = 45)]
         minutes: u32,
+        #[command(flatten)]
+        window: window::WindowArgs,
         /// Step-free reach only; `--step-free` alone means strict.
         #[arg(long, value_enum, num_args = 0..=1, default_missing_value = "strict", value_name = "PROFILE")]
         step_free: Option<StepFreeArg>,
+        /// With --window: write the places reached to this CSV file instead of printing them.
+        #[arg(long, value_name = "FILE.csv", requires = "window")]
+        out: Option<PathBuf>,
         /// Print the stops reached as JSON.
         #[arg(long)]
         json: bool,
+    },
+    /// A travel-time matrix over a window of departures: one row per reachable pair of places,
+    /// with the shortest time, percentiles and the share within a cut-off, as CSV or Parquet.
+    #[command(after_help = WINDOW_HELP)]
+    Matrix {
+        #[command(flatten)]
+        feeds: Feeds,
+        /// Service date, YYYY-MM-DD.
+        #[arg(long)]
+        date: String,
+        #[command(flatten)]
+        window: window::WindowArgs,
+        /// Origins: all (every place), ID,ID,... or a file (one id per line, or a CSV with a stop_id column).
+        #[arg(long, default_value = "all", value_name = "all|ID,ID|FILE")]
+        origins: String,
+        /// Destinations, as --origins.
+        #[arg(long, default_value = "all", value_name = "all|ID,ID|FILE")]
+        destinations: String,
+        /// Step-free journeys only; `--step-free` alone means strict.
+        #[arg(long, value_enum, num_args = 0..=1, default_missing_value = "strict", value_name = "PROFILE")]
+        step_free: Option<StepFreeArg>,
+        /// Weights of destinations (CSV stop_id,weight): also write each origin's cumulative
+        /// opportunities within --cutoff to NAME.opportunities.csv beside --out.
+        #[arg(long, value_name = "FILE.csv")]
+        opportunities: Option<PathBuf>,
+        /// Output file, .csv (RFC 4180) or .parquet; written under a temporary name and renamed at the end.
+        #[arg(long, value_name = "FILE")]
+        out: PathBuf,
+        /// Threads [default: all cores].
+        #[arg(long, value_name = "N")]
+        threads: Option<usize>,
     },
     /// Load feeds and print what was read, with every warning (file, line, field).
     Check {
@@ -171,7 +212,7 @@ fn load(feeds: &[PathBuf], quiet: bool) -> Result<Engine, String> {
 }
 
 /// Writes to stdout; a closed pipe (`| head`) ends the output quietly instead of panicking.
-fn say(text: &str) {
+pub(crate) fn say(text: &str) {
     use std::io::Write;
     let mut out = std::io::stdout().lock();
     if out.write_all(text.as_bytes()).and_then(|_| out.write_all(b"\n")).is_err() {
@@ -193,7 +234,7 @@ fn main() -> ExitCode {
     }
 }
 
-fn json<T: serde::Serialize>(v: &T) -> Result<(), String> {
+pub(crate) fn json<T: serde::Serialize>(v: &T) -> Result<(), String> {
     println!("{}", serde_json::to_string_pretty(v).map_err(|e| e.to_string())?);
     Ok(())
 }
@@ -265,9 +306,17 @@ fn run(cli: Cli) -> Result<(), String> {
             }
             Ok(())
         }
-        Command::Reach { feeds, from, date, at, minutes, step_free, json: as_json } => {
+        Command::Reach { feeds, from, date, at, minutes, window: w, step_free, out, json: as_json } => {
             let mut engine = load(&feeds.feeds, as_json)?;
             let sf = step_free_of(step_free);
+            let at = match (at, &w.window) {
+                (_, Some(span)) => {
+                    let q = window::query(date, &w, span.clone(), sf, &timeweave::engine::window::DEFAULT_PERCENTILES)?;
+                    return window::reach(&mut engine, &from, &q, out.as_deref(), as_json);
+                }
+                (Some(at), None) => at,
+                (None, None) => return Err("error: give --at HH:MM (one departure) or --window HH:MM-HH:MM".into()),
+            };
             let reach = engine.reach(&from, &date, &at, sf, minutes).map_err(|e| format!("error: {e}"))?;
             if as_json {
                 return json(&reach);
@@ -277,6 +326,19 @@ fn run(cli: Cli) -> Result<(), String> {
                 println!("  {:>3} min  {} [{}]", r.minutes, r.name, r.stop_id);
             }
             Ok(())
+        }
+        Command::Matrix { feeds, date, window: w, origins, destinations, step_free, opportunities, out, threads } => {
+            let span = w.window.clone().ok_or("error: give --window HH:MM-HH:MM")?;
+            let mut engine = load(&feeds.feeds, false)?;
+            let q = window::query(date, &w, span, step_free_of(step_free), &[5.0, 25.0, 50.0, 75.0, 95.0])?;
+            let a = window::MatrixArgs {
+                origins: &origins,
+                destinations: &destinations,
+                opportunities: opportunities.as_deref(),
+                out: &out,
+                threads,
+            };
+            window::matrix(&mut engine, &q, a)
         }
         Command::Check { feeds, json: as_json } => {
             let engine = load(&feeds.feeds, true)?;

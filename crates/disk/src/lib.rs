@@ -56,6 +56,35 @@ pub fn load_feed<'e>(engine: &'e mut Engine, path: &Path, progress: Progress) ->
     }
 }
 
+/// An output file being written under a temporary name in its folder: created before any work
+/// (so an unwritable path fails at once), it replaces `path` only on [`Staged::commit`]; dropped
+/// without a commit, it leaves nothing behind.
+pub struct Staged {
+    path: std::path::PathBuf,
+    tmp: tempfile::NamedTempFile,
+}
+
+impl Staged {
+    pub fn create(path: &Path) -> io::Result<Staged> {
+        if path.is_dir() {
+            return Err(io::Error::other(format!("{} is a folder", path.display())));
+        }
+        let dir = path.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or(Path::new("."));
+        let tmp = tempfile::NamedTempFile::new_in(dir)?;
+        Ok(Staged { path: path.to_path_buf(), tmp })
+    }
+    /// A buffered writer onto the temporary file.
+    pub fn writer(&self) -> io::Result<io::BufWriter<File>> {
+        Ok(io::BufWriter::new(self.tmp.as_file().try_clone()?))
+    }
+    /// Flushes the data to disk and gives the file its name.
+    pub fn commit(self) -> io::Result<()> {
+        self.tmp.as_file().sync_all()?;
+        self.tmp.persist(&self.path).map_err(|e| e.error)?;
+        readable(&self.path)
+    }
+}
+
 /// Writes `path` whole or not at all: the bytes go to a temporary file in the same folder,
 /// which replaces `path` only once `write` has succeeded and the data are flushed. A failure
 /// leaves no partial file behind.
@@ -71,7 +100,20 @@ pub fn write_atomically<T>(path: &Path, write: impl FnOnce(&mut io::BufWriter<&m
     };
     tmp.as_file().sync_all()?;
     tmp.persist(path).map_err(|e| e.error)?;
+    readable(path)?;
     Ok(value)
+}
+
+/// A temporary file is created readable by its owner only; the output a user asked for gets the
+/// usual mode (0644) instead.
+fn readable(path: &Path) -> io::Result<()> {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        std::fs::set_permissions(path, std::fs::Permissions::from_mode(0o644))?;
+    }
+    let _ = path;
+    Ok(())
 }
 
 #[cfg(test)]

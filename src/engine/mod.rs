@@ -1,11 +1,15 @@
 //! The library's front door: loaded feeds, the network of the last date asked for, stop search
 //! and planning, all in plain serialisable values. The CLI and the WASM module are thin shells
-//! around [`Engine`].
+//! around [`Engine`]. The questions about a window of departures (reach, a pair's profile,
+//! matrices) are in [`window`].
+
+pub mod window;
 
 use chrono::NaiveDate;
 use serde::{Deserialize, Serialize};
 use unicode_normalization::UnicodeNormalization;
 
+use crate::analysis::places::Places;
 use crate::error::{FeedError, QueryError};
 use crate::graph::Network;
 use crate::journey::{Builder, Check, Itinerary, LegKind, RouteRef};
@@ -149,6 +153,8 @@ pub struct Engine {
     state: SearchState,
     /// Normalised names, parallel to `tt.stops`.
     names: Vec<String>,
+    /// The places analyses report on (stations, stops outside stations).
+    pub places: Places,
 }
 
 /// Lower case without accents, for matching names typed by people.
@@ -164,6 +170,7 @@ impl Engine {
     fn loaded(&mut self) {
         self.net = None;
         self.names = self.tt.stops.iter().map(|s| normalise(&s.name)).collect();
+        self.places = Places::of(&self.tt);
     }
 
     pub fn load_zip(&mut self, name: &str, bytes: &[u8], progress: crate::feed::Progress) -> Result<&FeedMeta, FeedError> {
@@ -244,7 +251,7 @@ impl Engine {
         hits.into_iter().map(|(_, i)| self.stop_match(StopIdx(i as u32))).collect()
     }
 
-    fn stop_match(&self, s: StopIdx) -> StopMatch {
+    pub(crate) fn stop_match(&self, s: StopIdx) -> StopMatch {
         let st = self.tt.stop(s);
         StopMatch {
             id: st.id.clone(),
@@ -332,17 +339,7 @@ impl Engine {
     /// Where a search starts or ends for a stop: a station's entrances when it has any, else its
     /// platforms; any other stop is itself.
     pub fn endpoints_of(&self, s: StopIdx) -> Vec<StopIdx> {
-        let st = self.tt.stop(s);
-        if st.kind != StopKind::Station {
-            return vec![s];
-        }
-        let children: Vec<(usize, StopKind)> =
-            self.tt.stops.iter().enumerate().filter(|(_, c)| c.parent == Some(s)).map(|(i, c)| (i, c.kind)).collect();
-        let entrances: Vec<StopIdx> = children.iter().filter(|c| c.1 == StopKind::Entrance).map(|c| StopIdx(c.0 as u32)).collect();
-        if !entrances.is_empty() {
-            return entrances;
-        }
-        children.iter().filter(|c| c.1 == StopKind::Platform).map(|c| StopIdx(c.0 as u32)).collect()
+        crate::analysis::places::endpoints(&self.tt, s)
     }
 
     pub fn params_for(&self, q: &PlanQuery) -> Result<Params, QueryError> {

@@ -1,0 +1,90 @@
+//! A travel-time matrix: every origin's row of [`WindowRun::origin_rows`], run on several threads
+//! (native shells; the page runs origins in Web Workers instead), handed to the caller in the
+//! order of the origins so the output is the same whatever the number of threads. Memory does not
+//! grow with the number of origins: rows are handed on as soon as their turn comes, and the
+//! threads run at most a few origins ahead of the one being written.
+
+use std::collections::BTreeMap;
+use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
+use std::sync::{mpsc, Condvar, Mutex};
+
+use crate::analysis::window::{Destinations, Rows, TravelTimes, WindowRun};
+use crate::route::SearchState;
+
+/// How the matrix run ended.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Ended {
+    Done,
+    Cancelled,
+}
+
+/// Runs `origins` (places) on `threads` threads and calls `sink(i, origin, rows)` for each in
+/// order. Stops early, without calling `sink` again, when `cancel` is set or `sink` fails.
+pub fn run<E: Send>(
+    run: WindowRun,
+    origins: &[usize],
+    dest: &Destinations,
+    threads: usize,
+    cancel: &AtomicBool,
+    mut sink: impl FnMut(usize, usize, &Rows) -> Result<(), E>,
+) -> Result<Ended, E> {
+    let threads = threads.clamp(1, origins.len().max(1));
+    let ahead = 4 * threads;
+    let next = AtomicUsize::new(0);
+    // The index of the next origin to hand on; threads wait while they are too far ahead of it.
+    let written = (Mutex::new(0usize), Condvar::new());
+    let (tx, rx) = mpsc::channel::<(usize, Rows)>();
+    std::thread::scope(|scope| {
+        for _ in 0..threads {
+            let tx = tx.clone();
+            let (next, written) = (&next, &written);
+            scope.spawn(move || {
+                let mut st = SearchState::new();
+                let mut times = TravelTimes::default();
+                loop {
+                    let i = next.fetch_add(1, Ordering::Relaxed);
+                    if i >= origins.len() || cancel.load(Ordering::Relaxed) {
+                        return;
+                    }
+                    {
+                        let mut w = written.0.lock().unwrap_or_else(|e| e.into_inner());
+                        while i >= *w + ahead && !cancel.load(Ordering::Relaxed) {
+                            // A timeout, so a cancel from outside (Ctrl-C) is seen without a notify.
+                            w = written.1.wait_timeout(w, std::time::Duration::from_millis(50)).unwrap_or_else(|e| e.into_inner()).0;
+                        }
+                    }
+                    let mut rows = Rows::default();
+                    run.origin_rows(&mut st, origins[i], dest, &mut times, &mut rows);
+                    if tx.send((i, rows)).is_err() {
+                        return;
+                    }
+                }
+            });
+        }
+        drop(tx);
+        let mut pending: BTreeMap<usize, Rows> = BTreeMap::new();
+        let mut turn = 0;
+        let stop = |turn: usize| {
+            cancel.store(true, Ordering::Relaxed);
+            *written.0.lock().unwrap_or_else(|e| e.into_inner()) = turn;
+            written.1.notify_all();
+        };
+        for (i, rows) in rx.iter() {
+            pending.insert(i, rows);
+            while let Some(rows) = pending.remove(&turn) {
+                if cancel.load(Ordering::Relaxed) {
+                    stop(turn);
+                    return Ok(Ended::Cancelled);
+                }
+                if let Err(e) = sink(turn, origins[turn], &rows) {
+                    stop(turn);
+                    return Err(e);
+                }
+                turn += 1;
+                *written.0.lock().unwrap_or_else(|e| e.into_inner()) = turn;
+                written.1.notify_all();
+            }
+        }
+        Ok(if turn == origins.len() { Ended::Done } else { Ended::Cancelled })
+    })
+}
