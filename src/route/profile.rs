@@ -11,7 +11,8 @@
 //! New nodes are explored in time order (a monotone radix heap on departure time) so a stop's
 //! walking links are mostly relaxed once, from its earliest alighting. Lowering a stop's entry
 //! time from `old` to `new` boards exactly its departures in `[new, old)`: the later ones were
-//! boarded when the entry was `old`.
+//! boarded when the entry was `old`. A cursor per stop remembers where they start, so lowering
+//! walks back from it instead of searching.
 //!
 //! Arrivals found for a later departure are not cut at an earlier departure's horizon: the pass
 //! explores up to the last departure plus the longest duration, and a caller reads an arrival
@@ -26,7 +27,7 @@
 use crate::graph::{Network, HAS_RULES, LAST_OF_TRIP};
 use crate::route::bounds::WalkLinks;
 use crate::route::edges::{flags_ok, rule_boardings};
-use crate::route::query::Params;
+use crate::route::query::{prefetch, Params};
 use crate::route::radix_heap::RadixHeap;
 use crate::timetable::{StopIdx, Timetable, NO_DROP_OFF, NO_PICKUP};
 
@@ -46,17 +47,27 @@ pub(crate) struct ProfileQuery<'a> {
     pub max_rides: Option<u8>,
 }
 
+/// Per stop and ride count: the earliest time its waiting chain can be entered, and `pos`, the
+/// position (in the stop's departures) of the first one boarded from it: the departures from `pos`
+/// up to the horizon have all been boarded, so lowering the entry boards those before `pos`,
+/// walking back, without a search.
+#[derive(Debug, Clone, Copy)]
+struct Slot {
+    entry: u32,
+    pos: u32,
+}
+
+const FRESH: Slot = Slot { entry: u32::MAX, pos: u32::MAX };
+
 /// Buffers of the profile search, reused across queries.
 #[derive(Debug, Default)]
 pub struct ProfileBuffers {
-    /// Per stop and ride count: earliest time its waiting chain can be entered.
-    entry: Vec<u32>,
+    slots: Vec<Slot>,
     /// Per stop and ride count: earliest alighting so far (a later one walks the same links later).
     alight: Vec<u32>,
-    /// Per event: the fewest rides its ride node is reached with (`NONE`: not reached).
-    ride: Vec<u8>,
-    /// Per event: the ride count it was last explored with.
-    done: Vec<u8>,
+    /// Per event: the fewest rides its ride node is reached with, and the ride count it was last
+    /// explored with (`NONE`: not yet), side by side so a ride costs one cache miss, not two.
+    ride: Vec<[u8; 2]>,
     heap: RadixHeap,
     arrival: Vec<u32>,
 }
@@ -85,49 +96,62 @@ impl Pass<'_, '_> {
     /// Rides a ride node with `rides` counted, if that is fewer than before.
     #[inline]
     fn board(&mut self, e: u32, rides: u8) {
-        let r = &mut self.b.ride[e as usize];
+        let r = &mut self.b.ride[e as usize][0];
         if *r > rides {
             *r = rides;
             self.b.heap.push(self.q.net.dep(e as usize), e);
         }
     }
 
+    /// Arrival at stop `s` at `at` with `k` rides, ready to board (after a walk, or after the
+    /// change time): lowers its arrival and entry, and boards what that opens. The entry is never
+    /// earlier than the arrival, so a time not earlier than the entry changes nothing.
+    #[inline]
+    fn enter(&mut self, s: StopIdx, k: u8, at: u32) {
+        if at < self.b.slots[s.idx() * self.levels + k as usize].entry {
+            self.reach(s, at);
+            self.lower_entry(s, k, at);
+        }
+    }
+
     /// Lowers the entry time of stop `s` with `k` rides used to `at`, boarding what that opens.
     fn lower_entry(&mut self, s: StopIdx, k: u8, at: u32) {
         let base = s.idx() * self.levels;
-        let old = self.b.entry[base + k as usize];
-        if at >= old {
-            return;
-        }
-        for x in &mut self.b.entry[base + k as usize..base + self.levels] {
-            *x = (*x).min(at);
-        }
-        let rides = k + self.inc;
-        if rides as usize >= self.levels {
+        let slot = self.b.slots[base + k as usize];
+        if at >= slot.entry {
             return;
         }
         let net = self.q.net;
-        let Some(start) = net.first_departure(s, at) else { return };
-        let end = net.stop_first[s.idx() + 1];
-        for pos in start..end {
-            let dep = net.by_stop_dep[pos as usize];
-            if dep >= old || dep > self.horizon {
-                break;
-            }
+        let lo = net.stop_first[s.idx()];
+        let mut pos = if slot.entry == u32::MAX {
+            net.first_departure(s, self.horizon.saturating_add(1)).unwrap_or(net.stop_first[s.idx() + 1])
+        } else {
+            slot.pos
+        };
+        let rides = k + self.inc;
+        let boards = (rides as usize) < self.levels;
+        while pos > lo && net.by_stop_dep[pos as usize - 1] >= at {
+            pos -= 1;
             let f = net.by_stop[pos as usize];
             let flags = net.flags(f as usize);
-            if flags & (NO_PICKUP | LAST_OF_TRIP) == 0 && flags_ok(flags, self.mask) {
+            if boards && flags & (NO_PICKUP | LAST_OF_TRIP) == 0 && flags_ok(flags, self.mask) {
                 self.board(f, rides);
+            }
+        }
+        for x in &mut self.b.slots[base + k as usize..base + self.levels] {
+            if at < x.entry {
+                // A higher ride count's departures from `pos` on are boarded with fewer rides now.
+                *x = Slot { entry: at, pos: if x.entry == u32::MAX { pos } else { x.pos.min(pos) } };
             }
         }
     }
 
     fn explore(&mut self, e: usize) {
-        let k = self.b.ride[e];
-        if self.b.done[e] <= k {
+        let [k, done] = self.b.ride[e];
+        if done <= k {
             return;
         }
-        self.b.done[e] = k;
+        self.b.ride[e][1] = k;
         let (tt, net, p) = (self.q.tt, self.q.net, self.q.p);
         let e2 = e + 1;
         let next = net.events[e2];
@@ -157,9 +181,7 @@ impl Pass<'_, '_> {
         self.b.alight[slot] = ta;
         let walk = self.q.walk;
         for f in walk.from(v) {
-            let at = ta + f.walk_s;
-            self.reach(f.to, at);
-            self.lower_entry(f.to, k, at);
+            self.enter(f.to, k, ta + f.walk_s);
         }
     }
 }
@@ -175,14 +197,12 @@ pub(crate) fn profile(q: &ProfileQuery, b: &mut ProfileBuffers, mut each: impl F
         Some(k) => (k.min(MAX_RIDES_CAP) as usize + 1, 1),
         None => (1, 0),
     };
-    for v in [&mut b.entry, &mut b.alight] {
-        v.clear();
-        v.resize(n * levels, u32::MAX);
-    }
-    for v in [&mut b.ride, &mut b.done] {
-        v.clear();
-        v.resize(events, NONE);
-    }
+    b.slots.clear();
+    b.slots.resize(n * levels, FRESH);
+    b.alight.clear();
+    b.alight.resize(n * levels, u32::MAX);
+    b.ride.clear();
+    b.ride.resize(events, [NONE; 2]);
     b.arrival.clear();
     b.arrival.resize(n, u32::MAX);
     b.heap.clear();
@@ -198,14 +218,15 @@ pub(crate) fn profile(q: &ProfileQuery, b: &mut ProfileBuffers, mut each: impl F
     };
     for (i, &t) in q.departures.iter().enumerate().rev() {
         for &o in q.origins {
-            pass.reach(o, t);
-            pass.lower_entry(o, 0, t);
+            pass.enter(o, 0, t);
             for f in q.walk.from(o) {
-                pass.reach(f.to, t + f.walk_s);
-                pass.lower_entry(f.to, 0, t + f.walk_s);
+                pass.enter(f.to, 0, t + f.walk_s);
             }
         }
         while let Some((_, e)) = pass.b.heap.pop() {
+            if let Some(next) = pass.b.heap.next_value() {
+                prefetch(&q.net.events[next as usize + 1]);
+            }
             pass.explore(e as usize);
         }
         pass.b.heap.clear();

@@ -151,3 +151,15 @@ impl<'a> Query<'a> {
         Query { depart_s, ..self }
     }
 }
+
+/// Asks the processor to bring `x` into cache (a hint only; no effect where unsupported).
+#[inline(always)]
+pub(crate) fn prefetch<T>(x: &T) {
+    #[cfg(target_arch = "x86_64")]
+    // SAFETY: a prefetch never faults and reads nothing into the program; the pointer is valid.
+    unsafe {
+        std::arch::x86_64::_mm_prefetch(x as *const T as *const i8, std::arch::x86_64::_MM_HINT_T0)
+    };
+    #[cfg(not(target_arch = "x86_64"))]
+    let _ = x;
+}

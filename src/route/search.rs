@@ -27,6 +27,7 @@ use crate::route::boardings::Boardings;
 use crate::route::bounds::{Active, Anchor, Landmarks, Prepared, Tentative, WalkLinks, EXACT_ACTIVE, UNREACHABLE};
 use crate::route::edges::{event_ok, rule_boardings};
 use crate::route::profile::{self, ProfileBuffers, ProfileQuery};
+use crate::route::query::prefetch;
 pub use crate::route::query::{weighted_walk_s, Endpoints, Journey, Params, Query, StepFree, WalkKey};
 use crate::route::radix_heap::RadixHeap;
 use crate::route::sweep::{self, SweepBuffers};
@@ -520,18 +521,6 @@ struct Entering {
 
 /// How many walking links ahead `change` asks for the stop records it will read.
 const PREFETCH_AHEAD: usize = 4;
-
-/// Asks the processor to bring `x` into cache (a hint only; no effect where unsupported).
-#[inline(always)]
-fn prefetch<T>(x: &T) {
-    #[cfg(target_arch = "x86_64")]
-    // SAFETY: a prefetch never faults and reads nothing into the program; the pointer is valid.
-    unsafe {
-        std::arch::x86_64::_mm_prefetch(x as *const T as *const i8, std::arch::x86_64::_MM_HINT_T0)
-    };
-    #[cfg(not(target_arch = "x86_64"))]
-    let _ = x;
-}
 
 pub(super) fn run(run: Run, st: &mut SearchState) {
     let q = run.q;
