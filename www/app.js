@@ -1,4 +1,5 @@
-// The page: feed loading, the journey form, results, detail and sketch. All engine work happens
+// The page's entry: feed loading, the journey form, results, detail and sketch, and the wiring of
+// the workbench's other views (views/*.js) to the same worker. All engine work happens
 // in the worker (engine-client.js); this module only moves values between the form, the worker
 // and the DOM. Feed text reaches the DOM only as text nodes (textContent / append(string)).
 //
@@ -955,4 +956,50 @@ function placeLine(p, time) {
   if (plat) span.append(' ', el('span', { class: 'platform', text: plat }));
   if (time) span.append(el('span', { class: 'sr-only', text: ` at ${time}` }));
   return span;
+}
+
+// ---------------------------------------------------------------- the workbench's views
+
+// The other views are modules of their own, loaded when first shown: the page starts with the
+// modules the journeys need and no more requests at once.
+const views = {
+  journeys: { tab: $('tab-journeys'), panel: $('main'), view: null },
+  window: {
+    tab: $('tab-window'),
+    panel: $('view-window'),
+    load: async () => (await import('./views/window.js')).initWindowView({ client, getSketch: () => state.sketch, say }),
+  },
+  matrix: {
+    tab: $('tab-matrix'),
+    panel: $('view-matrix'),
+    load: async () => (await import('./views/matrix.js')).initMatrixView({ client, say }),
+  },
+};
+
+async function showView(name, focus) {
+  for (const [k, v] of Object.entries(views)) {
+    const on = k === name;
+    v.tab.setAttribute('aria-selected', String(on));
+    v.tab.tabIndex = on ? 0 : -1;
+    v.panel.hidden = !on;
+  }
+  if (focus) views[name].tab.focus();
+  // The timetables panel lives in the journeys view; the other views use what it loaded.
+  const v = views[name];
+  if (v.load && !v.view) v.view = v.load();
+  if (v.view) (await v.view).show(ui.date.value);
+  html.dataset.view = name;
+}
+
+const order = Object.keys(views);
+for (const [name, v] of Object.entries(views)) {
+  v.tab.addEventListener('click', () => showView(name));
+  v.tab.addEventListener('keydown', (e) => {
+    const i = order.indexOf(name);
+    const to = e.key === 'ArrowRight' ? order[(i + 1) % order.length] : e.key === 'ArrowLeft' ? order[(i + order.length - 1) % order.length] : null;
+    if (to) {
+      e.preventDefault();
+      showView(to, true);
+    }
+  });
 }

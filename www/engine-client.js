@@ -119,6 +119,30 @@ export class EngineClient {
   resolveStop(text) { return this.#call('resolve', { text }); }
   plan(query) { return this.#call('plan', { query }); }
   sketch() { return this.#call('sketch', {}); }
+  /** Reach over a window: `query` holds WindowQuery fields (DEVELOPERS.md). */
+  reachWindow(from, query) { return this.#call('reach_window', { from, query }); }
+  pairProfile(from, to, query) { return this.#call('pair_profile', { from, to, query }); }
+  places() { return this.#call('places', {}); }
+  matrixSetup(query, destinations, weights) { return this.#call('matrix_setup', { query, destinations, weights }); }
+  matrixOrigin(origin) { return this.#call('matrix_origin', { origin }); }
+  tableBegin(format, percentiles) { return this.#call('table_begin', { format, percentiles }); }
+  tableAdd(origin, rows) { return this.#call('table_add', { origin, rows }); }
+  tableFinish() { return this.#call('table_finish', {}); }
+
+  /** A second engine in its own worker with the same feeds (for work spread over cores). */
+  async twin() {
+    const c = new EngineClient();
+    await c.start();
+    for (const k of this.kept) await c.loadFeed(k.name, k.bytes);
+    return c;
+  }
+
+  /** Stops the worker for good (a twin that is no longer needed). */
+  dispose() {
+    if (this.worker) this.worker.terminate();
+    this.#failAll(new CancelledError());
+    this.worker = null;
+  }
 
   /**
    * Stops whatever the engine is doing: terminates the worker, rejects every open request with

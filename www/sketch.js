@@ -94,9 +94,11 @@ function itineraryPoints(itin, proj, stopById) {
 /**
  * Draws `data` (engine.sketch()) into `svg`, with `itinerary` (or null) on top. With
  * `fitJourney` the view is cropped to the itinerary and its surroundings; otherwise the whole
- * network is shown. Returns a one-line description (also put in the SVG's <title>).
+ * network is shown. `opts.fill(stopId)` gives a stop's colour (a view colouring stops by a
+ * value) and `opts.describe` a sentence added to the description. Returns a one-line description
+ * (also put in the SVG's <title>).
  */
-export function drawSketch(svg, data, itinerary, fitJourney = true) {
+export function drawSketch(svg, data, itinerary, fitJourney = true, opts = {}) {
   const title = svg.querySelector('title') || node('title', { id: 'sketch-title' });
   svg.replaceChildren(title);
   if (!data || !data.stops || !data.stops.length) {
@@ -156,7 +158,10 @@ export function drawSketch(svg, data, itinerary, fitJourney = true) {
     const key = `${Math.round(x / (2 * px))}:${Math.round(y / (2 * px))}`;
     if (seen.has(key)) continue;
     seen.add(key);
-    const c = node('circle', { cx: x.toFixed(1), cy: y.toFixed(1), r: (2.6 * px).toFixed(2), class: 'sk-stop', 'stroke-width': (1.2 * px).toFixed(2) });
+    const fill = opts.fill ? opts.fill(st.id) : null;
+    const c = node('circle', { cx: x.toFixed(1), cy: y.toFixed(1), r: ((fill ? 4.2 : 2.6) * px).toFixed(2), class: fill ? 'sk-stop sk-valued' : 'sk-stop', 'stroke-width': (1.2 * px).toFixed(2) });
+    // A style, not the fill attribute: the stylesheet's fill for plain stops would win over it.
+    if (fill) c.style.fill = fill;
     // `station` is true for a GTFS station (location_type 1); a string is a station's name.
     const extra = st.station === true ? ' (station)' : typeof st.station === 'string' && st.station !== st.name ? ` (${st.station})` : '';
     c.append(node('title', {}, `${st.name}${extra}`));
@@ -165,6 +170,7 @@ export function drawSketch(svg, data, itinerary, fitJourney = true) {
   svg.append(gLines, gStops);
 
   let label = `Network sketch: ${data.stops.length} stops, ${(data.lines || []).length} lines.`;
+  if (opts.describe) label += ` ${opts.describe}`;
   if (hasTrip) {
     svg.append(drawItinerary(itinerary, proj, stopById, px, view));
     const first = itinerary.legs[0].start;

@@ -3,6 +3,8 @@
 //
 // Protocol (structured-clone messages):
 //   page → worker  { id, op, args }            op: load | remove | feeds | search | resolve | plan | sketch
+//                                               | reach_window | pair_profile | places | matrix_setup | matrix_origin
+//                                               | table_begin | table_add | table_finish
 //   worker → page  { type: 'ready' }           once the WASM module is instantiated
 //                  { type: 'init-failed', error }
 //                  { type: 'progress', id, stage, fraction }   during `load`
@@ -69,6 +71,24 @@ function run(op, args, id) {
       return engine.plan(args.query);
     case 'sketch':
       return engine.sketch();
+    case 'reach_window':
+      return engine.reach_window(args.from, args.query);
+    case 'pair_profile':
+      return engine.pair_profile(args.from, args.to, args.query);
+    case 'places':
+      return engine.places();
+    case 'matrix_setup':
+      return engine.matrix_setup(args.query, args.destinations ?? undefined, args.weights ?? undefined);
+    case 'matrix_origin':
+      return engine.matrix_origin(args.origin);
+    case 'table_begin':
+      return engine.table_begin(args.format, new Float64Array(args.percentiles));
+    case 'table_add': {
+      const r = args.rows;
+      return engine.table_add(args.origin, r.to, r.min_s, r.percentiles_s, r.share_within_cutoff, r.departures_reached);
+    }
+    case 'table_finish':
+      return engine.table_finish();
     default:
       throw new Error(`unknown request "${op}"`);
   }

@@ -5,13 +5,33 @@
 use serde::Serialize;
 use wasm_bindgen::prelude::*;
 
+use timeweave::analysis::window::{Destinations, Rows, TravelTimes};
+use timeweave::engine::window::{WindowQuery, WindowSetting};
 use timeweave::engine::{Engine as Core, PlanQuery};
 use timeweave::error::FeedIssue;
+use timeweave::route::SearchState;
 use timeweave::timetable::FeedMeta;
+use timeweave_tables::{Format, MatrixTable};
 
 #[wasm_bindgen]
 pub struct Engine {
     core: Core,
+    /// The window setting and destinations of the matrix being computed (`matrix_setup`).
+    matrix: Option<(WindowSetting, Destinations)>,
+    state: SearchState,
+    times: TravelTimes,
+    rows: Rows,
+    /// The matrix file being written (`table_begin` … `table_finish`).
+    table: Option<MatrixTable<Vec<u8>>>,
+}
+
+fn json_value<T: Serialize>(v: &T) -> Result<JsValue, JsValue> {
+    let text = serde_json::to_string(v).map_err(|e| JsValue::from_str(&e.to_string()))?;
+    js_sys::JSON::parse(&text)
+}
+
+fn typed<T: Into<JsValue>>(o: &js_sys::Object, key: &str, v: T) -> Result<(), JsValue> {
+    js_sys::Reflect::set(o, &JsValue::from_str(key), &v.into()).map(|_| ())
 }
 
 #[derive(Serialize)]
@@ -59,6 +79,10 @@ fn failure(e: timeweave::error::QueryError) -> JsValue {
     to_js(&QueryFailure { message: e.to_string(), detail: e }).unwrap_or_else(|e| e)
 }
 
+fn window_query(v: JsValue) -> Result<WindowQuery, JsValue> {
+    serde_wasm_bindgen::from_value(v).map_err(|e| JsValue::from_str(&format!("bad window request: {e}")))
+}
+
 fn step_free_of(strict: bool) -> timeweave::route::StepFree {
     if strict {
         timeweave::route::StepFree::Strict
@@ -71,7 +95,14 @@ fn step_free_of(strict: bool) -> timeweave::route::StepFree {
 impl Engine {
     #[wasm_bindgen(constructor)]
     pub fn new() -> Engine {
-        Engine { core: Core::new() }
+        Engine {
+            core: Core::new(),
+            matrix: None,
+            state: SearchState::new(),
+            times: TravelTimes::default(),
+            rows: Rows::default(),
+            table: None,
+        }
     }
 
     /// Loads a GTFS zip. Throws a `FeedIssue` object on a fatal problem; the feeds loaded before
@@ -125,6 +156,123 @@ impl Engine {
     /// Uint32Array: the one-to-all answer without building an object per stop.
     pub fn reach_minutes(&mut self, from: &str, date: &str, time: &str, step_free: bool, minutes: u32) -> Result<Vec<u32>, JsValue> {
         self.core.reach_minutes(from, date, time, step_free_of(step_free), minutes).map_err(failure)
+    }
+
+    /// Reach over a window of departures (`WindowQuery` fields), every place reached with its
+    /// shortest time, percentiles and share within the cut-off; as JSON parsed by the browser.
+    pub fn reach_window(&mut self, from: &str, query: JsValue) -> Result<JsValue, JsValue> {
+        let q = window_query(query)?;
+        json_value(&self.core.reach_window(from, &q).map_err(failure)?)
+    }
+
+    /// The travel time of one pair at every departure of the window, and its summary.
+    pub fn pair_profile(&mut self, from: &str, to: &str, query: JsValue) -> Result<JsValue, JsValue> {
+        let q = window_query(query)?;
+        json_value(&self.core.pair_profile(from, to, &q).map_err(failure)?)
+    }
+
+    /// The places analyses report on, in index order: `{ id, name, lat, lon, station }`.
+    pub fn places(&self) -> Result<JsValue, JsValue> {
+        #[derive(Serialize)]
+        struct Place<'a> {
+            id: &'a str,
+            name: &'a str,
+            lat: f64,
+            lon: f64,
+            station: bool,
+        }
+        let c = &self.core;
+        let list: Vec<Place> = c
+            .places
+            .stops
+            .iter()
+            .map(|&s| {
+                let st = c.tt.stop(s);
+                Place { id: &st.id, name: &st.name, lat: st.lat, lon: st.lon, station: st.kind == timeweave::timetable::StopKind::Station }
+            })
+            .collect();
+        json_value(&list)
+    }
+
+    /// Checks a matrix request and keeps it for `matrix_origin`: the window (`WindowQuery`
+    /// fields), the destination places (`null`: all) and, for the cumulative opportunities,
+    /// weights per place (`null`: none). Throws on a bad request, before any search.
+    pub fn matrix_setup(&mut self, query: JsValue, destinations: Option<Vec<u32>>, weights: Option<Vec<f64>>) -> Result<u32, JsValue> {
+        let q = window_query(query)?;
+        let setting = self.core.window_setting(&q).map_err(failure)?;
+        let n = self.core.places.len();
+        let report: Option<Vec<usize>> = destinations.map(|d| d.into_iter().map(|p| p as usize).filter(|&p| p < n).collect());
+        let w: Vec<(usize, f64)> = weights.unwrap_or_default().into_iter().enumerate().filter(|(p, w)| *p < n && *w > 0.0).collect();
+        let dest = self.core.destinations(report.as_deref(), &w);
+        self.matrix = Some((setting, dest));
+        Ok(n as u32)
+    }
+
+    /// The rows of origin place `origin` under the kept matrix request, column by column as typed
+    /// arrays (no object per row): `{ to: Uint32Array (destination places), min_s: Uint32Array,
+    /// percentiles_s: Float64Array (row-major, NaN where none), share_within_cutoff:
+    /// Float64Array (NaN without a cut-off), departures_reached: Uint32Array, opportunities }`.
+    pub fn matrix_origin(&mut self, origin: u32) -> Result<JsValue, JsValue> {
+        let (setting, dest) = self.matrix.take().ok_or_else(|| JsValue::from_str("matrix_setup was not called"))?;
+        if origin as usize >= self.core.places.len() {
+            self.matrix = Some((setting, dest));
+            return Err(JsValue::from_str(&format!("no place {origin}")));
+        }
+        let run = self.core.window_run(&setting);
+        run.origin_rows(&mut self.state, origin as usize, &dest, &mut self.times, &mut self.rows);
+        self.matrix = Some((setting, dest));
+        let r = &self.rows;
+        let o = js_sys::Object::new();
+        typed(&o, "to", js_sys::Uint32Array::from(&r.to[..]))?;
+        typed(&o, "min_s", js_sys::Uint32Array::from(&r.min_s[..]))?;
+        let pct: Vec<f64> = r.percentiles_s.iter().map(|x| x.unwrap_or(f64::NAN)).collect();
+        typed(&o, "percentiles_s", js_sys::Float64Array::from(&pct[..]))?;
+        let share: Vec<f64> = r.share_within_cutoff.iter().map(|x| x.unwrap_or(f64::NAN)).collect();
+        typed(&o, "share_within_cutoff", js_sys::Float64Array::from(&share[..]))?;
+        typed(&o, "departures_reached", js_sys::Uint32Array::from(&r.departures_reached[..]))?;
+        typed(&o, "opportunities", r.opportunities.map_or(JsValue::NULL, JsValue::from_f64))?;
+        Ok(o.into())
+    }
+
+    /// Starts a matrix file, `csv` or `parquet`, with these percentile columns.
+    pub fn table_begin(&mut self, format: &str, percentiles: Vec<f64>) -> Result<(), JsValue> {
+        let f = Format::of_name(&format!("x.{format}")).ok_or_else(|| JsValue::from_str("format is csv or parquet"))?;
+        self.table = Some(MatrixTable::new(f, Vec::new(), &percentiles).map_err(|e| JsValue::from_str(&e.to_string()))?);
+        Ok(())
+    }
+
+    /// Appends one origin's rows (the arrays `matrix_origin` returned) to the file being written.
+    pub fn table_add(
+        &mut self,
+        origin: u32,
+        to: Vec<u32>,
+        min_s: Vec<u32>,
+        percentiles_s: Vec<f64>,
+        share: Vec<f64>,
+        reached: Vec<u32>,
+    ) -> Result<(), JsValue> {
+        let t = self.table.as_mut().ok_or_else(|| JsValue::from_str("table_begin was not called"))?;
+        let c = &self.core;
+        let n = c.places.len() as u32;
+        if origin >= n || to.iter().any(|&p| p >= n) {
+            return Err(JsValue::from_str("a place index is out of range"));
+        }
+        let some = |x: f64| (!x.is_nan()).then_some(x);
+        let rows = Rows {
+            to,
+            min_s,
+            percentiles_s: percentiles_s.into_iter().map(some).collect(),
+            share_within_cutoff: share.into_iter().map(some).collect(),
+            departures_reached: reached,
+            opportunities: None,
+        };
+        t.origin(c.place_id(origin as usize), &rows, |p| c.place_id(p as usize)).map_err(|e| JsValue::from_str(&e.to_string()))
+    }
+
+    /// Finishes the file and returns its bytes.
+    pub fn table_finish(&mut self) -> Result<Vec<u8>, JsValue> {
+        let t = self.table.take().ok_or_else(|| JsValue::from_str("table_begin was not called"))?;
+        t.finish().map_err(|e| JsValue::from_str(&e.to_string()))
     }
 
     pub fn stop_ids(&self) -> Result<JsValue, JsValue> {
