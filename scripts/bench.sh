@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # Benchmarks (issue 4): the native search on generated metro and region feeds, side by side with
-# petgraph's dijkstra and a plain Connection Scan (cargo bench --bench queries), then the WASM build
+# petgraph's dijkstra and a plain Connection Scan (cargo bench --bench queries), the window analyses
+# (cargo bench --bench window: profile vs 120 sweeps, the region matrix), then the WASM build
 # in headless Chromium on the metro feed (tests/browser/bench/bench.mjs). Prints both Markdown
 # tables and the machine they ran on. Takes several minutes; the feeds are generated into
 # bench-out/ on first use.
@@ -33,6 +34,7 @@ fi
 mkdir -p bench-out
 
 cargo bench -j "${CARGO_JOBS:-1}" --bench queries 2>&1 | tee bench-out/native.log
+cargo bench -j "${CARGO_JOBS:-1}" --bench window 2>&1 | tee bench-out/window.log
 
 node tests/browser/bench/bench.mjs 2>&1 | tee bench-out/browser.log
 
@@ -43,6 +45,8 @@ node tests/browser/bench/bench.mjs 2>&1 | tee bench-out/browser.log
   machine
   echo
   cat bench-out/native.md
+  echo
+  cat bench-out/window.md
   echo
   cat bench-out/browser.md
 } | tee bench-out/report.md
