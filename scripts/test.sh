@@ -7,7 +7,7 @@ scripts/build.sh
 # The house rules first: formatting, and lints as errors (shared target dir, debug profile).
 cargo fmt --all --check
 cargo clippy --workspace --all-targets -- -D warnings
-cargo test --release --workspace
+cargo test --profile ci --workspace
 if [ -d tests/browser ] && ls tests/browser/*.test.mjs >/dev/null 2>&1; then
   node --test --test-concurrency=1 tests/browser/
 fi
