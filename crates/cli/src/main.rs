@@ -17,6 +17,12 @@ struct Cli {
 }
 
 /// How times read, for every command's help.
+const INTERCHANGE_HELP: &str = "Definitions:
+  change_s: the transfers.txt rule at one stop (trip over route over stop; type 1 timed = 0 s, 2 = min_transfer_time, 3 = not possible), else 60 s; between two stops the walking link's time (the feed's min_transfer_time, else pathways, else the walk at 1.3 m/s).
+  slack: departure minus arrival. made: the first departure of the route/direction with slack >= change_s; wait_s = its slack. none: no such departure within --horizon. not_possible: transfers.txt forbids the change or no walking link joins the stops.
+  missed_by_s: change_s minus the slack of the latest departure with 0 <= slack < change_s (missed_trip_id); near_miss = 1 when it is at most --near-miss.
+  arrival, departure: service-day time HH:MM:SS (may pass 24:00:00).";
+
 const WINDOW_HELP: &str = const_format::concatcp!(TIMES, "\n\n", window::DEFINITIONS);
 
 const TIMES: &str = "Times: a departure is local clock time (HH:MM) in the first feed's agency_timezone on the service date. \
@@ -165,6 +171,31 @@ enum Command {
         /// Threads [default: all cores].
         #[arg(long, value_name = "N")]
         threads: Option<usize>,
+    },
+    /// The interchange audit of a station (or all): for every arrival and every other route and
+    /// direction leaving there, whether the connection is made, missed and by how much, and the wait.
+    #[command(after_help = INTERCHANGE_HELP)]
+    Interchange {
+        #[command(flatten)]
+        feeds: Feeds,
+        /// Service date, YYYY-MM-DD.
+        #[arg(long)]
+        date: String,
+        /// Station or stop id (or name), or `all` for every station.
+        #[arg(long)]
+        station: String,
+        /// Arrivals in this window, local HH:MM-HH:MM [default: the whole service day].
+        #[arg(long, value_name = "HH:MM-HH:MM")]
+        window: Option<String>,
+        /// A missed connection is a near miss when missed by at most this, minutes [default: 2].
+        #[arg(long, value_name = "MIN")]
+        near_miss: Option<u32>,
+        /// Departures up to this long after an arrival are considered, minutes [default: 60].
+        #[arg(long, value_name = "MIN")]
+        horizon: Option<u32>,
+        /// Output CSV file (written whole or not at all).
+        #[arg(long, value_name = "FILE.csv")]
+        out: PathBuf,
     },
     /// Load feeds and print what was read, with every warning (file, line, field).
     Check {
@@ -339,6 +370,34 @@ fn run(cli: Cli) -> Result<(), String> {
                 threads,
             };
             window::matrix(&mut engine, &q, a)
+        }
+        Command::Interchange { feeds, date, station, window, near_miss, horizon, out } => {
+            let mut engine = load(&feeds.feeds, false)?;
+            let cannot = |e: &dyn std::fmt::Display| format!("error: cannot write {}: {e}", out.display());
+            let staged = timeweave_disk::Staged::create(&out).map_err(|e| cannot(&e))?;
+            let q =
+                timeweave::engine::interchange::InterchangeQuery { station, date, window, horizon_min: horizon, near_miss_min: near_miss };
+            let rows = engine.interchange(&q).map_err(|e| format!("error: {e}"))?;
+            let w = staged.writer().map_err(|e| cannot(&e))?;
+            let mut w = timeweave_tables::interchange_csv(w, &rows).map_err(|e| cannot(&e))?;
+            std::io::Write::flush(&mut w).map_err(|e| cannot(&e))?;
+            staged.commit().map_err(|e| cannot(&e))?;
+            let count = |s: timeweave::analysis::interchange::Status| rows.iter().filter(|r| r.status == s).count();
+            use timeweave::analysis::interchange::Status;
+            if rows.is_empty() {
+                println!("{}: no arrival meets a departing route there in this window (nothing to audit)", out.display());
+            } else {
+                println!(
+                    "{}: {} arrival × route/direction rows: {} made, {} none within the horizon, {} not possible; {} near misses",
+                    out.display(),
+                    rows.len(),
+                    count(Status::Made),
+                    count(Status::None),
+                    count(Status::NotPossible),
+                    rows.iter().filter(|r| r.near_miss).count()
+                );
+            }
+            Ok(())
         }
         Command::Check { feeds, json: as_json } => {
             let engine = load(&feeds.feeds, true)?;

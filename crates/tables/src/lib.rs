@@ -245,3 +245,54 @@ pub fn reach_csv<W: Write>(out: W, r: &WindowReach) -> Result<W, TableError> {
     }
     w.into_inner().map_err(|e| TableError::Io(e.into_error()))
 }
+
+/// The interchange audit's rows as CSV: one per arrival and departing route/direction; empty
+/// cells where a value does not apply.
+pub fn interchange_csv<W: Write>(out: W, rows: &[timeweave::engine::interchange::ConnectionRow]) -> Result<W, TableError> {
+    let mut w = csv::Writer::from_writer(out);
+    w.write_record([
+        "station",
+        "arr_trip_id",
+        "arr_route_id",
+        "arr_stop_id",
+        "arrival",
+        "dep_route_id",
+        "dep_direction",
+        "dep_trip_id",
+        "dep_stop_id",
+        "departure",
+        "change_s",
+        "wait_s",
+        "status",
+        "missed_by_s",
+        "missed_trip_id",
+        "near_miss",
+    ])?;
+    let num = |x: Option<u32>| x.map(|v| v.to_string()).unwrap_or_default();
+    for r in rows {
+        let status = match r.status {
+            timeweave::analysis::interchange::Status::Made => "made",
+            timeweave::analysis::interchange::Status::None => "none",
+            timeweave::analysis::interchange::Status::NotPossible => "not_possible",
+        };
+        w.write_record([
+            r.station.as_str(),
+            &r.arr_trip_id,
+            &r.arr_route_id,
+            &r.arr_stop_id,
+            &r.arrival,
+            &r.dep_route_id,
+            &r.dep_direction,
+            r.dep_trip_id.as_deref().unwrap_or(""),
+            r.dep_stop_id.as_deref().unwrap_or(""),
+            r.departure.as_deref().unwrap_or(""),
+            &num(r.change_s),
+            &num(r.wait_s),
+            status,
+            &num(r.missed_by_s),
+            r.missed_trip_id.as_deref().unwrap_or(""),
+            if r.near_miss { "1" } else { "0" },
+        ])?;
+    }
+    w.into_inner().map_err(|e| TableError::Io(e.into_error()))
+}
