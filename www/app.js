@@ -15,7 +15,7 @@
 
 import { EngineClient, CancelledError, EngineError } from './engine-client.js';
 import { StopCombobox, labelFor } from './combobox.js';
-import { drawSketch, hexColor, contrast } from './sketch.js';
+import { drawSketch, hexColor, contrast, el } from './sketch.js';
 
 const $ = (id) => document.getElementById(id);
 const html = document.documentElement;
@@ -77,19 +77,6 @@ const state = {
 };
 
 // ---------------------------------------------------------------- small DOM helpers
-
-/** createElement with text children only; `props.class`, `props.text`, attributes otherwise. */
-function el(tag, props = {}, ...children) {
-  const e = document.createElement(tag);
-  for (const [k, v] of Object.entries(props)) {
-    if (v === undefined || v === null || v === false) continue;
-    if (k === 'class') e.className = v;
-    else if (k === 'text') e.textContent = String(v);
-    else e.setAttribute(k, v === true ? '' : String(v));
-  }
-  for (const c of children) if (c !== null && c !== undefined && c !== false) e.append(c);
-  return e;
-}
 
 function say(text) {
   // Re-set even when unchanged so screen readers announce a repeated message.

@@ -2,26 +2,7 @@
 // saw-tooth of one pair's travel time across a window, sortable tables and downloads. Drawn as
 // SVG on this device, no network; feed text always goes in as textContent.
 
-const SVGNS = 'http://www.w3.org/2000/svg';
-
-export function svgNode(tag, attrs = {}, text) {
-  const n = document.createElementNS(SVGNS, tag);
-  for (const [k, v] of Object.entries(attrs)) n.setAttribute(k, String(v));
-  if (text != null) n.textContent = text;
-  return n;
-}
-
-export function el(tag, props = {}, ...children) {
-  const n = document.createElement(tag);
-  for (const [k, v] of Object.entries(props)) {
-    if (k === 'class') n.className = v;
-    else if (k === 'text') n.textContent = v;
-    else if (k.startsWith('on')) n.addEventListener(k.slice(2), v);
-    else n.setAttribute(k, v);
-  }
-  for (const c of children) if (c != null) n.append(c);
-  return n;
-}
+import { el, node as svgNode } from './sketch.js';
 
 // A sequential scale of seven classes of minutes, light to dark, after the viridis palette
 // (designed to stay ordered for the common colour-vision deficiencies and in grey). The darker
@@ -144,7 +125,7 @@ export function sortableTable(columns, rows, { caption, onRow } = {}) {
     }
     body.replaceChildren(...list.map((r) => {
       const tr = el('tr');
-      for (const c of columns) tr.append(el(c.num ? 'td' : 'td', { class: c.num ? 'num' : '', text: c.show ? c.show(r) : String(r[c.key] ?? '—') }));
+      for (const c of columns) tr.append(el('td', { class: c.num ? 'num' : '', text: c.show ? c.show(r) : String(r[c.key] ?? '—') }));
       if (onRow) {
         tr.tabIndex = 0;
         tr.classList.add('pick');

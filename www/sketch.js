@@ -31,7 +31,21 @@ export function contrast(a, b) {
   return (x + 0.05) / (y + 0.05);
 }
 
-function node(tag, attrs = {}, text) {
+/** createElement with text children only; `props.class`, `props.text`, attributes otherwise. */
+export function el(tag, props = {}, ...children) {
+  const e = document.createElement(tag);
+  for (const [k, v] of Object.entries(props)) {
+    if (v === undefined || v === null || v === false) continue;
+    if (k === 'class') e.className = v;
+    else if (k === 'text') e.textContent = String(v);
+    else e.setAttribute(k, v === true ? '' : String(v));
+  }
+  for (const c of children) if (c !== null && c !== undefined && c !== false) e.append(c);
+  return e;
+}
+
+/** An SVG element with attributes and optional text. */
+export function node(tag, attrs = {}, text) {
   const e = document.createElementNS(NS, tag);
   for (const [k, v] of Object.entries(attrs)) e.setAttribute(k, String(v));
   if (text !== undefined) e.textContent = text;

@@ -112,34 +112,25 @@ fn change(tt: &Timetable, p: &Params, a: StopIdx, ta: TripIdx, d: StopIdx, td: T
 /// Audits the stops `stops` (from [`station_stops`]): one row per arrival in the window and
 /// departing line, in order of arrival then line.
 pub fn audit(tt: &Timetable, net: &Network, p: &Params, stops: &[StopIdx], spec: &AuditSpec) -> Vec<Connection> {
-    // Departures from the station's stops within reach of the window, in time order.
-    let mut deps: Vec<(u32, u32)> = Vec::new(); // (dep time, event)
+    // Every departure (with pickup) from the station's stops on the date, with its line: the
+    // lines to audit are all of them, so one that does not leave within the horizon shows as
+    // `none` rather than vanishing; the departures matched are those within reach of the window.
     let last = spec.end_s.saturating_add(spec.horizon_s);
+    let mut day: Vec<(u32, u32, Line)> = Vec::new();
     for &s in stops {
-        let (a, b) = (net.stop_first[s.idx()] as usize, net.stop_first[s.idx() + 1] as usize);
-        for pos in a..b {
+        for pos in net.stop_first[s.idx()] as usize..net.stop_first[s.idx() + 1] as usize {
             let (t, e) = (net.by_stop_dep[pos], net.by_stop[pos]);
-            if t < spec.start_s || t > last || net.flags(e as usize) & (NO_PICKUP | LAST_OF_TRIP) != 0 {
-                continue;
-            }
-            deps.push((t, e));
-        }
-    }
-    deps.sort_unstable();
-    let dep_line: Vec<Line> = deps.iter().map(|&(_, e)| line_of(tt, net.instance_of(e).trip)).collect();
-    // Every line that leaves the station's stops on the date (with pickup) is audited, so one
-    // that does not leave within the horizon shows as `none` rather than vanishing.
-    let mut lines: Vec<Line> = Vec::new();
-    for &s in stops {
-        for pos in net.stop_first[s.idx()]..net.stop_first[s.idx() + 1] {
-            let e = net.by_stop[pos as usize];
             if net.flags(e as usize) & (NO_PICKUP | LAST_OF_TRIP) == 0 {
-                lines.push(line_of(tt, net.instance_of(e).trip));
+                day.push((t, e, line_of(tt, net.instance_of(e).trip)));
             }
         }
     }
+    let mut lines: Vec<Line> = day.iter().map(|d| d.2.clone()).collect();
     lines.sort();
     lines.dedup();
+    day.retain(|d| d.0 >= spec.start_s && d.0 <= last);
+    day.sort_unstable_by_key(|d| (d.0, d.1));
+    let (deps, dep_line): (Vec<(u32, u32)>, Vec<Line>) = day.into_iter().map(|(t, e, l)| ((t, e), l)).unzip();
 
     let mut rows = Vec::new();
     let mut arrivals: Vec<(u32, u32)> = Vec::new();

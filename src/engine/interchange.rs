@@ -5,9 +5,8 @@ use serde::{Deserialize, Serialize};
 
 use super::Engine;
 use crate::analysis::interchange::{audit, station_stops, AuditSpec, Status};
-use crate::engine::window::parse_window;
 use crate::error::QueryError;
-use crate::timetable::calendar::{clock_to_seconds, parse_date};
+use crate::timetable::calendar::parse_date;
 use crate::timetable::{StopIdx, StopKind};
 
 /// Departures this long after an arrival are considered when none is given, minutes (common
@@ -63,16 +62,7 @@ impl Engine {
             return Err(QueryError::NoFeed);
         }
         let date = parse_date(&q.date).ok_or_else(|| QueryError::BadDate(q.date.clone()))?;
-        let (start, end) = match &q.window {
-            Some(w) => parse_window(w)?,
-            None => (0, 24 * 60),
-        };
-        let tz = self.tt.feeds[0].timezone;
-        let clock = |m: u32| clock_to_seconds(tz, date, (m / 60).min(23), if m >= 24 * 60 { 59 } else { m % 60 });
-        let start_s = clock(start).ok_or_else(|| QueryError::BadTime(format!("{start}")))?.max(0) as u32;
-        let end_s = if end >= 24 * 60 { clock(end).map(|x| x + 60) } else { clock(end) }
-            .ok_or_else(|| QueryError::BadTime(format!("{end}")))?
-            .max(0) as u32;
+        let span = self.span(date, q.window.as_deref())?;
         let horizon_s = q.horizon_min.unwrap_or(DEFAULT_HORIZON_MIN) * 60;
         let near_s = q.near_miss_min.unwrap_or(DEFAULT_NEAR_MISS_MIN) * 60;
         let stations: Vec<StopIdx> = if q.station == "all" {
@@ -87,15 +77,22 @@ impl Engine {
         self.network(date);
         let net = self.net.as_ref().expect("network built");
         let tt = &self.tt;
+        // Each stop under its station, found once for all the stations audited.
+        let mut within: std::collections::HashMap<StopIdx, Vec<StopIdx>> = stations.iter().map(|&st| (st, Vec::new())).collect();
+        for c in (0..tt.stops.len() as u32).map(StopIdx) {
+            let st = tt.station_of(c);
+            if st != c {
+                if let Some(v) = within.get_mut(&st) {
+                    v.push(c);
+                }
+            }
+        }
         let mut out = Vec::new();
         for st in stations {
-            let own: Vec<StopIdx> = if tt.stop(st).kind == StopKind::Station {
-                (0..tt.stops.len() as u32).map(StopIdx).filter(|&c| tt.station_of(c) == st && c != st).collect()
-            } else {
-                vec![st]
-            };
+            let own: Vec<StopIdx> =
+                if tt.stop(st).kind == StopKind::Station { std::mem::take(within.get_mut(&st).expect("listed")) } else { vec![st] };
             let stops = station_stops(tt, &p, &own);
-            let rows = audit(tt, net, &p, &stops, &AuditSpec { start_s, end_s, horizon_s });
+            let rows = audit(tt, net, &p, &stops, &AuditSpec { start_s: span.start_s, end_s: span.end_s, horizon_s });
             let route_id = |t: crate::timetable::TripIdx| tt.routes[tt.trips[t.idx()].route.idx()].id.clone();
             for r in rows {
                 out.push(ConnectionRow {

@@ -129,7 +129,32 @@ pub fn parse_window(text: &str) -> Result<(u32, u32), QueryError> {
     Ok((start, end))
 }
 
+/// A window of the date as minutes of the day and as `[start_s, end_s)` on the date's network
+/// timeline (local clock in the first feed's zone).
+#[derive(Debug, Clone, Copy)]
+pub struct Span {
+    pub start_min: u32,
+    pub end_min: u32,
+    pub start_s: u32,
+    pub end_s: u32,
+}
+
 impl Engine {
+    /// The window `text` ("HH:MM-HH:MM", `None`: the whole day) of `date` on the network timeline.
+    pub fn span(&self, date: NaiveDate, text: Option<&str>) -> Result<Span, QueryError> {
+        let (start_min, end_min) = text.map_or(Ok((0, 24 * 60)), parse_window)?;
+        let tz = self.tt.feeds.first().ok_or(QueryError::NoFeed)?.timezone;
+        let bad = || QueryError::BadTime(text.unwrap_or("00:00-24:00").to_string());
+        // 24:00 is a minute after 23:59.
+        let at = |m: u32| {
+            clock_to_seconds(tz, date, (m / 60).min(23), if m >= 24 * 60 { 59 } else { m % 60 })
+                .map(|s| s + if m >= 24 * 60 { 60 } else { 0 })
+        };
+        let start_s = at(start_min).ok_or_else(bad)?.max(0) as u32;
+        let end_s = at(end_min).ok_or_else(bad)?.max(0) as u32;
+        Ok(Span { start_min, end_min, start_s, end_s })
+    }
+
     /// Checks a window request and prepares it: every bad value is reported here, before any work.
     pub fn window_setting(&self, q: &WindowQuery) -> Result<WindowSetting, QueryError> {
         if self.tt.feeds.is_empty() {
@@ -141,7 +166,7 @@ impl Engine {
                 return Err(QueryError::BadOption(format!("date {date} is outside the loaded feeds' dates, {first} to {last}")));
             }
         }
-        let (start, end) = parse_window(&q.window)?;
+        let span = self.span(date, Some(&q.window))?;
         let step_min = q.step_min.unwrap_or(1);
         if step_min == 0 {
             return Err(QueryError::BadOption("step 0 min: give a step of at least 1 minute".into()));
@@ -166,10 +191,8 @@ impl Engine {
             return Err(QueryError::BadOption(format!("longest travel time {max_min} min is outside 1–1440")));
         }
         p.max_duration_s = max_min * 60;
-        let tz = self.tt.feeds[0].timezone;
-        let first = clock_to_seconds(tz, date, start / 60, start % 60).ok_or_else(|| QueryError::BadTime(q.window.clone()))?.max(0) as u32;
-        let n = (end - start).div_ceil(step_min);
-        let departures = (0..n).map(|i| first + i * step_min * 60).collect();
+        let n = (span.end_min - span.start_min).div_ceil(step_min);
+        let departures = (0..n).map(|i| span.start_s + i * step_min * 60).collect();
         let spec = WindowSpec { departures, percentiles, cutoff_s: q.cutoff_min.map(|c| c * 60), max_rides: q.max_rides };
         Ok(WindowSetting { date, spec, p, step_min })
     }

@@ -3,7 +3,7 @@
 // left and a cancel button. Rows are kept as typed arrays, one set per origin; the CSV and
 // Parquet files are written by the engine's own table writer (the CLI's), on request.
 
-import { windowQuery } from '../charts.js';
+import { windowQuery, download } from '../charts.js';
 
 const $ = (id) => document.getElementById(id);
 
@@ -135,14 +135,7 @@ export function initMatrixView({ client, say }) {
       await client.tableBegin(format, done.query.percentiles);
       for (let i = 0; i < done.origins.length; i++) await client.tableAdd(done.origins[i], done.results[i]);
       const bytes = await client.tableFinish();
-      const url = URL.createObjectURL(new Blob([bytes], { type: format === 'csv' ? 'text/csv' : 'application/vnd.apache.parquet' }));
-      const a = document.createElement('a');
-      a.href = url;
-      a.download = `matrix-${done.query.date}.${format}`;
-      document.body.append(a);
-      a.click();
-      a.remove();
-      setTimeout(() => URL.revokeObjectURL(url), 60_000);
+      download(`matrix-${done.query.date}.${format}`, [bytes], format === 'csv' ? 'text/csv' : 'application/vnd.apache.parquet');
       ui.summary.textContent = `${format.toUpperCase()} file written (${bytes.length} bytes).`;
     } catch (e) {
       fail(e.message);
