@@ -122,7 +122,13 @@ pub fn parse_window(text: &str) -> Result<(u32, u32), QueryError> {
         }
         parse_clock(s).map(|(h, m)| h * 60 + m)
     };
-    let (start, end) = (minutes(a).ok_or_else(|| bad("is not HH:MM-HH:MM"))?, minutes(b).ok_or_else(|| bad("is not HH:MM-HH:MM"))?);
+    let minutes = |s: &str| {
+        minutes(s).ok_or_else(|| match s.trim().split(':').next().and_then(|h| h.parse::<u32>().ok()) {
+            Some(h) if h >= 24 => bad("is outside the service day, 00:00-24:00 (a time after midnight belongs to the next date)"),
+            _ => bad("is not HH:MM-HH:MM"),
+        })
+    };
+    let (start, end) = (minutes(a)?, minutes(b)?);
     if end <= start {
         return Err(bad("ends before it starts (or when it starts); a window past midnight is not supported, split it in two"));
     }
@@ -140,6 +146,17 @@ pub struct Span {
 }
 
 impl Engine {
+    /// A date for an analysis: parsed, and within the loaded feeds' dates.
+    pub fn analysis_date(&self, text: &str) -> Result<NaiveDate, QueryError> {
+        let date = parse_date(text).ok_or_else(|| QueryError::BadDate(text.to_string()))?;
+        if let Some((first, last)) = self.tt.date_range() {
+            if date < first || date > last {
+                return Err(QueryError::BadOption(format!("date {date} is outside the loaded feeds' dates, {first} to {last}")));
+            }
+        }
+        Ok(date)
+    }
+
     /// The window `text` ("HH:MM-HH:MM", `None`: the whole day) of `date` on the network timeline.
     pub fn span(&self, date: NaiveDate, text: Option<&str>) -> Result<Span, QueryError> {
         let (start_min, end_min) = text.map_or(Ok((0, 24 * 60)), parse_window)?;
@@ -160,12 +177,7 @@ impl Engine {
         if self.tt.feeds.is_empty() {
             return Err(QueryError::NoFeed);
         }
-        let date = parse_date(&q.date).ok_or_else(|| QueryError::BadDate(q.date.clone()))?;
-        if let Some((first, last)) = self.tt.date_range() {
-            if date < first || date > last {
-                return Err(QueryError::BadOption(format!("date {date} is outside the loaded feeds' dates, {first} to {last}")));
-            }
-        }
+        let date = self.analysis_date(&q.date)?;
         let span = self.span(date, Some(&q.window))?;
         let step_min = q.step_min.unwrap_or(1);
         if step_min == 0 {

@@ -480,6 +480,7 @@ fn read_feed(feed: &str, files: &mut FeedFiles<'_>, progress: Progress) -> Resul
             len: 0,
             frequency_based: false,
             headway_s: None,
+            block: t.block_id.filter(|b| !b.is_empty()),
             id: t.id,
         });
     })?;

@@ -393,6 +393,29 @@ impl Builder<'_> {
         self.finish(j, legs, depart.unwrap_or(self.query_s))
     }
 
+    /// The two-ride journey of one connection: the ride into network event `arrival` from
+    /// `board` (an earlier event of the same trip), the change (a walk or in-station leg between
+    /// two stops), and the ride from `departure` to `alight` (a later event of its trip). The
+    /// cost is the duration. The caller checks that the events are what it says.
+    pub fn connection(&self, board: u32, arrival: u32, departure: u32, alight: u32) -> Itinerary {
+        let net = self.net;
+        let first = self.ride_leg(board, arrival - 1, 0);
+        let (a, d) = (net.stop(arrival as usize), net.stop(departure as usize));
+        let mut legs = vec![first];
+        let mut t = net.arr(arrival as usize);
+        if a != d {
+            let (f, w) = self.footpath(a, d).map(|(f, w)| (Some(f), w)).unwrap_or((None, 0));
+            legs.push(self.walk_leg(a, d, f, t, w));
+            t += w;
+        }
+        let wait = net.dep(departure as usize).saturating_sub(t);
+        legs.push(self.ride_leg(departure, alight - 1, wait));
+        let depart_s = net.dep(board as usize);
+        let arrival_s = net.arr(alight as usize);
+        let j = Journey { nodes: Vec::new(), arrival_s, cost_s: arrival_s - depart_s, rides: 2, direct_walk: None };
+        self.finish(&j, legs, depart_s)
+    }
+
     fn finish(&self, j: &Journey, legs: Vec<Leg>, depart_s: u32) -> Itinerary {
         let arrive_s = legs.last().map_or(depart_s, |l| l.arrive_s);
         let walk_s = legs.iter().filter(|l| l.kind != LegKind::Ride).map(|l| l.duration_s).sum();

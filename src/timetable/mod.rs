@@ -192,6 +192,9 @@ pub struct Trip {
     pub frequency_based: bool,
     /// Headway of the frequency entry this trip was expanded from.
     pub headway_s: Option<u32>,
+    /// `block_id`: trips of one block on one service day are run by the same vehicle, so a
+    /// rider can stay seated from one to the next (GTFS Schedule reference, trips.txt).
+    pub block: Option<String>,
 }
 
 impl Trip {

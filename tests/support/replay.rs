@@ -51,6 +51,28 @@ pub fn wheelchair_of(tt: &Timetable, s: StopIdx) -> Access {
     Access::Unknown
 }
 
+/// The least distance a walk from `a` to `b` can cover: the great circle, or with pathways, the
+/// great circle to and from the nearest ends of the pathways plus their `length` (the GTFS
+/// Schedule reference gives a pathway's horizontal length as the feed's word, which may be shorter
+/// than the distance between its ends' coordinates; a pathway without one counts 0 m).
+fn street_least_m(tt: &Timetable, a: StopIdx, b: StopIdx, steps: &[timeweave::journey::PathwayStep]) -> f64 {
+    let gc = |x: StopIdx, y: StopIdx| {
+        let (sx, sy) = (tt.stop(x), tt.stop(y));
+        haversine_m(sx.lat, sx.lon, sy.lat, sy.lon)
+    };
+    if steps.is_empty() {
+        return gc(a, b);
+    }
+    let feeds = [tt.stop(a).feed, tt.stop(b).feed];
+    let used: Vec<_> = steps
+        .iter()
+        .filter_map(|s| tt.pathways.iter().find(|pw| pw.id == s.pathway_id && feeds.contains(&tt.stop(pw.from).feed)))
+        .collect();
+    let ends: Vec<StopIdx> = used.iter().flat_map(|pw| [pw.from, pw.to]).collect();
+    let near = |x: StopIdx| ends.iter().map(|&e| gc(x, e)).fold(f64::INFINITY, f64::min);
+    near(a) + used.iter().map(|pw| pw.length_m.unwrap_or(0.0) as f64).sum::<f64>() + near(b)
+}
+
 /// Minimum change time at one stop: its transfers.txt rule, else the query's change time.
 fn change_at(tt: &Timetable, s: StopIdx, p: &Params) -> Result<u32, String> {
     match tt.stop_rules.iter().find(|r| r.0 == s).map(|r| r.1) {
@@ -120,8 +142,8 @@ pub fn replay(
                 if a == b {
                     return Err(at("a walk from a stop to itself".into()));
                 }
-                let (sa, sb) = (tt.stop(a), tt.stop(b));
-                let gc = haversine_m(sa.lat, sa.lon, sb.lat, sb.lon);
+                let sa = tt.stop(a);
+                let gc = street_least_m(tt, a, b, &leg.pathways);
                 let least = (gc / p.walk_speed_mps).floor() as u32;
                 if leg.duration_s < least {
                     return Err(at(format!(

@@ -7,6 +7,7 @@ use clap::{Parser, Subcommand};
 use timeweave::engine::{Engine, PlanQuery};
 use timeweave::route::StepFree;
 
+mod interchange;
 mod window;
 
 #[derive(Parser)]
@@ -373,31 +374,9 @@ fn run(cli: Cli) -> Result<(), String> {
         }
         Command::Interchange { feeds, date, station, window, near_miss, horizon, out } => {
             let mut engine = load(&feeds.feeds, false)?;
-            let cannot = |e: &dyn std::fmt::Display| format!("error: cannot write {}: {e}", out.display());
-            let staged = timeweave_disk::Staged::create(&out).map_err(|e| cannot(&e))?;
             let q =
                 timeweave::engine::interchange::InterchangeQuery { station, date, window, horizon_min: horizon, near_miss_min: near_miss };
-            let rows = engine.interchange(&q).map_err(|e| format!("error: {e}"))?;
-            let w = staged.writer().map_err(|e| cannot(&e))?;
-            let mut w = timeweave_tables::interchange_csv(w, &rows).map_err(|e| cannot(&e))?;
-            std::io::Write::flush(&mut w).map_err(|e| cannot(&e))?;
-            staged.commit().map_err(|e| cannot(&e))?;
-            let count = |s: timeweave::analysis::interchange::Status| rows.iter().filter(|r| r.status == s).count();
-            use timeweave::analysis::interchange::Status;
-            if rows.is_empty() {
-                println!("{}: no arrival meets a departing route there in this window (nothing to audit)", out.display());
-            } else {
-                println!(
-                    "{}: {} arrival × route/direction rows: {} made, {} none within the horizon, {} not possible; {} near misses",
-                    out.display(),
-                    rows.len(),
-                    count(Status::Made),
-                    count(Status::None),
-                    count(Status::NotPossible),
-                    rows.iter().filter(|r| r.near_miss).count()
-                );
-            }
-            Ok(())
+            interchange::run(&mut engine, &q, &out)
         }
         Command::Check { feeds, json: as_json } => {
             let engine = load(&feeds.feeds, true)?;

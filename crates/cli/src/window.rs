@@ -176,8 +176,33 @@ fn weights(engine: &Engine, path: &Path) -> Result<Vec<(usize, f64)>, String> {
 
 /// Where the opportunities of a matrix written to `out` go: `NAME.opportunities.csv` beside it.
 pub fn opportunities_path(out: &Path) -> PathBuf {
-    let stem = out.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| "matrix".into());
-    out.with_file_name(format!("{stem}.opportunities.csv"))
+    beside(out, "opportunities")
+}
+
+/// `NAME.WHAT.csv` beside the output file `NAME.EXT`.
+pub fn beside(out: &Path, what: &str) -> PathBuf {
+    let stem = out.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_else(|| "out".into());
+    out.with_file_name(format!("{stem}.{what}.csv"))
+}
+
+/// A flag set by Ctrl-C (the CLI runs one command, so one handler).
+pub fn cancel_on_ctrl_c() -> Arc<AtomicBool> {
+    let cancel = Arc::new(AtomicBool::new(false));
+    let c = cancel.clone();
+    let _ = ctrlc::set_handler(move || c.store(true, Ordering::Relaxed));
+    cancel
+}
+
+/// A progress bar over `n` things.
+pub fn bar(n: usize, what: &str) -> indicatif::ProgressBar {
+    let bar = indicatif::ProgressBar::new(n as u64);
+    bar.set_style(
+        indicatif::ProgressStyle::with_template(&format!(
+            "{{bar:40}} {{pos}}/{{len}} {what}, {{per_sec}}, {{elapsed}} elapsed, about {{eta}} left"
+        ))
+        .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+    );
+    bar
 }
 
 pub struct MatrixArgs<'a> {
@@ -208,12 +233,7 @@ pub fn matrix(engine: &mut Engine, q: &WindowQuery, a: MatrixArgs) -> Result<(),
     let opp_path = a.opportunities.map(|_| opportunities_path(a.out));
     let opp_staged = opp_path.as_deref().map(|p| timeweave_disk::Staged::create(p).map_err(|e| cannot(p, &e))).transpose()?;
 
-    let cancel = Arc::new(AtomicBool::new(false));
-    {
-        let c = cancel.clone();
-        // A second handler cannot be set in one process; the CLI runs one command.
-        let _ = ctrlc::set_handler(move || c.store(true, Ordering::Relaxed));
-    }
+    let cancel = cancel_on_ctrl_c();
     let ids: Vec<String> = (0..engine.places.len()).map(|p| engine.place_id(p).to_string()).collect();
     let mut table = MatrixTable::new(format, staged.writer().map_err(|e| cannot(a.out, &e))?, &setting.spec.percentiles)
         .map_err(|e| cannot(a.out, &e))?;
@@ -221,11 +241,7 @@ pub fn matrix(engine: &mut Engine, q: &WindowQuery, a: MatrixArgs) -> Result<(),
         Some(s) => Some(OpportunityTable::new(s.writer().map_err(|e| cannot(a.out, &e))?).map_err(|e| cannot(a.out, &e))?),
         None => None,
     };
-    let bar = indicatif::ProgressBar::new(origins.len() as u64);
-    bar.set_style(
-        indicatif::ProgressStyle::with_template("{bar:40} {pos}/{len} origins, {per_sec}, {elapsed} elapsed, about {eta} left")
-            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
-    );
+    let bar = bar(origins.len(), "origins");
     let threads = a.threads.unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
     let started = Instant::now();
     let ended = {

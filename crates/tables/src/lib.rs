@@ -18,7 +18,9 @@ use arrow_schema::{DataType, Field, Schema, SchemaRef};
 use parquet::arrow::ArrowWriter;
 use parquet::basic::Compression;
 use parquet::file::properties::WriterProperties;
+use timeweave::analysis::interchange::Status;
 use timeweave::analysis::window::{Rows, NONE};
+use timeweave::engine::interchange::ConnectionRow;
 use timeweave::engine::window::WindowReach;
 
 /// Rows per Parquet row group (and per Arrow batch handed to the writer).
@@ -246,53 +248,81 @@ pub fn reach_csv<W: Write>(out: W, r: &WindowReach) -> Result<W, TableError> {
     w.into_inner().map_err(|e| TableError::Io(e.into_error()))
 }
 
-/// The interchange audit's rows as CSV: one per arrival and departing route/direction; empty
-/// cells where a value does not apply.
-pub fn interchange_csv<W: Write>(out: W, rows: &[timeweave::engine::interchange::ConnectionRow]) -> Result<W, TableError> {
-    let mut w = csv::Writer::from_writer(out);
-    w.write_record([
-        "station",
-        "arr_trip_id",
-        "arr_route_id",
-        "arr_stop_id",
-        "arrival",
-        "dep_route_id",
-        "dep_direction",
-        "dep_trip_id",
-        "dep_stop_id",
-        "departure",
-        "change_s",
-        "wait_s",
-        "status",
-        "missed_by_s",
-        "missed_trip_id",
-        "near_miss",
-    ])?;
-    let num = |x: Option<u32>| x.map(|v| v.to_string()).unwrap_or_default();
-    for r in rows {
-        let status = match r.status {
-            timeweave::analysis::interchange::Status::Made => "made",
-            timeweave::analysis::interchange::Status::None => "none",
-            timeweave::analysis::interchange::Status::NotPossible => "not_possible",
-        };
+/// The interchange audit's rows as CSV, written a station at a time: one row per arrival and
+/// departing route/direction; empty cells where a value does not apply; `near_miss` 1 or 0.
+pub struct ConnectionTable<W: Write> {
+    w: csv::Writer<W>,
+    pub rows: u64,
+}
+
+impl<W: Write> ConnectionTable<W> {
+    pub fn new(out: W) -> Result<Self, TableError> {
+        let mut w = csv::Writer::from_writer(out);
         w.write_record([
-            r.station.as_str(),
-            &r.arr_trip_id,
-            &r.arr_route_id,
-            &r.arr_stop_id,
-            &r.arrival,
-            &r.dep_route_id,
-            &r.dep_direction,
-            r.dep_trip_id.as_deref().unwrap_or(""),
-            r.dep_stop_id.as_deref().unwrap_or(""),
-            r.departure.as_deref().unwrap_or(""),
-            &num(r.change_s),
-            &num(r.wait_s),
-            status,
-            &num(r.missed_by_s),
-            r.missed_trip_id.as_deref().unwrap_or(""),
-            if r.near_miss { "1" } else { "0" },
+            "station",
+            "arr_trip_id",
+            "arr_route_id",
+            "arr_direction",
+            "arr_stop_id",
+            "arrival",
+            "dep_route_id",
+            "dep_direction",
+            "dep_trip_id",
+            "dep_stop_id",
+            "departure",
+            "change_s",
+            "wait_s",
+            "status",
+            "missed_by_s",
+            "missed_trip_id",
+            "near_miss",
         ])?;
+        Ok(ConnectionTable { w, rows: 0 })
+    }
+
+    pub fn add(&mut self, rows: &[ConnectionRow]) -> Result<(), TableError> {
+        let num = |x: Option<u32>| x.map(|v| v.to_string()).unwrap_or_default();
+        for r in rows {
+            let status = match r.status {
+                Status::Made => "made",
+                Status::None => "none",
+                Status::NotPossible => "not_possible",
+            };
+            self.w.write_record([
+                r.station.as_str(),
+                &r.arr_trip_id,
+                &r.arr_route_id,
+                &r.arr_direction,
+                &r.arr_stop_id,
+                &r.arrival,
+                &r.dep_route_id,
+                &r.dep_direction,
+                r.dep_trip_id.as_deref().unwrap_or(""),
+                r.dep_stop_id.as_deref().unwrap_or(""),
+                r.departure.as_deref().unwrap_or(""),
+                &num(r.change_s),
+                &num(r.wait_s),
+                status,
+                &num(r.missed_by_s),
+                r.missed_trip_id.as_deref().unwrap_or(""),
+                if r.near_miss { "1" } else { "0" },
+            ])?;
+        }
+        self.rows += rows.len() as u64;
+        Ok(())
+    }
+
+    pub fn finish(self) -> Result<W, TableError> {
+        self.w.into_inner().map_err(|e| TableError::Io(e.into_error()))
+    }
+}
+
+/// Any serialisable rows as CSV, the header from the field names (pairs and stations of the
+/// interchange audit).
+pub fn rows_csv<W: Write, T: serde::Serialize>(out: W, rows: &[T]) -> Result<W, TableError> {
+    let mut w = csv::Writer::from_writer(out);
+    for r in rows {
+        w.serialize(r)?;
     }
     w.into_inner().map_err(|e| TableError::Io(e.into_error()))
 }
