@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # Benchmarks (issue 4): the native search on generated metro and region feeds, side by side with
 # petgraph's dijkstra and a plain Connection Scan (cargo bench --bench queries), the window analyses
-# (cargo bench --bench window: profile vs 120 sweeps, the region matrix), then the WASM build
+# (cargo bench --bench window: profile vs 120 sweeps, the region matrix), the interchange audit
+# (cargo bench --bench interchange: metro all stations all day, against the first version), then the WASM build
 # in headless Chromium on the metro feed (tests/browser/bench/bench.mjs). Prints both Markdown
 # tables and the machine they ran on. Takes several minutes; the feeds are generated into
 # bench-out/ on first use.
@@ -35,6 +36,7 @@ mkdir -p bench-out
 
 cargo bench -j "${CARGO_JOBS:-1}" --bench queries 2>&1 | tee bench-out/native.log
 cargo bench -j "${CARGO_JOBS:-1}" --bench window 2>&1 | tee bench-out/window.log
+cargo bench -j "${CARGO_JOBS:-1}" --bench interchange 2>&1 | tee bench-out/interchange.log
 
 node tests/browser/bench/bench.mjs 2>&1 | tee bench-out/browser.log
 
@@ -47,6 +49,8 @@ node tests/browser/bench/bench.mjs 2>&1 | tee bench-out/browser.log
   cat bench-out/native.md
   echo
   cat bench-out/window.md
+  echo
+  cat bench-out/interchange.md
   echo
   cat bench-out/browser.md
 } | tee bench-out/report.md

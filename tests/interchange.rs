@@ -64,10 +64,10 @@ fn a_two_minute_change_misses_the_next_minute_and_makes_the_one_after() {
     // Worked by hand (common practice, no source): arrival 08:07, change time 120 s, departures
     // 08:08 and 08:15 of one route → 08:08 missed by 60 s, 08:15 made with an 8 min wait.
     let r = &rows(&["08:08", "08:15"], "X,X,2,120")[0];
-    assert_eq!((r.arrival.as_str(), r.status, r.change_s), ("08:07:00", Status::Made, Some(120)));
-    assert_eq!((r.departure.as_deref(), r.wait_s), (Some("08:15:00"), Some(480)));
+    assert_eq!((r.arrival.to_string().as_str(), r.status, r.change_s), ("08:07:00", Status::Made, Some(120)));
+    assert_eq!((r.departure.map(|d| d.to_string()).as_deref(), r.wait_s), (Some("08:15:00"), Some(480)));
     assert_eq!((r.missed_by_s, r.missed_trip_id.as_deref(), r.near_miss), (Some(60), Some("B0"), true));
-    assert_eq!((r.arr_route_id.as_str(), r.dep_route_id.as_str(), r.dep_direction.as_str()), ("A", "B", "0"));
+    assert_eq!((&*r.arr_route_id, &*r.dep_route_id, &*r.dep_direction), ("A", "B", "0"));
 }
 
 #[test]
@@ -77,22 +77,28 @@ fn transfer_types_follow_the_gtfs_schedule_reference() {
     // departing vehicle waits (0 s); 2 = at least min_transfer_time; 3 = no transfer possible.
     let deps = ["08:07", "08:08", "08:12"];
     let none = &rows(&deps, "")[0];
-    assert_eq!((none.change_s, none.departure.as_deref(), none.missed_by_s), (Some(60), Some("08:08:00"), Some(60)));
+    assert_eq!((none.change_s, none.departure.map(|d| d.to_string()).as_deref(), none.missed_by_s), (Some(60), Some("08:08:00"), Some(60)));
     let type0 = &rows(&deps, "X,X,0,")[0];
-    assert_eq!((type0.change_s, type0.departure.as_deref()), (Some(60), Some("08:08:00")));
+    assert_eq!((type0.change_s, type0.departure.map(|d| d.to_string()).as_deref()), (Some(60), Some("08:08:00")));
     let timed = &rows(&deps, "X,X,1,")[0];
-    assert_eq!((timed.change_s, timed.departure.as_deref(), timed.wait_s, timed.missed_by_s), (Some(0), Some("08:07:00"), Some(0), None));
+    assert_eq!(
+        (timed.change_s, timed.departure.map(|d| d.to_string()).as_deref(), timed.wait_s, timed.missed_by_s),
+        (Some(0), Some("08:07:00"), Some(0), None)
+    );
     let min = &rows(&deps, "X,X,2,300")[0];
-    assert_eq!((min.change_s, min.departure.as_deref(), min.wait_s, min.missed_by_s), (Some(300), Some("08:12:00"), Some(300), Some(240)));
+    assert_eq!(
+        (min.change_s, min.departure.map(|d| d.to_string()).as_deref(), min.wait_s, min.missed_by_s),
+        (Some(300), Some("08:12:00"), Some(300), Some(240))
+    );
     assert!(!min.near_miss, "missed by 4 min is not a near miss at the default 2 min");
     let forbidden = &rows(&deps, "X,X,3,")[0];
-    assert_eq!((forbidden.status, forbidden.departure.as_deref()), (Status::NotPossible, None));
+    assert_eq!((forbidden.status, forbidden.departure.map(|d| d.to_string()).as_deref()), (Status::NotPossible, None));
 }
 
 #[test]
 fn no_departure_within_the_horizon_is_none() {
     let r = &rows(&["09:30"], "")[0];
-    assert_eq!((r.status, r.departure.as_deref(), r.missed_by_s), (Status::None, None, None));
+    assert_eq!((r.status, r.departure.map(|d| d.to_string()).as_deref(), r.missed_by_s), (Status::None, None, None));
 }
 
 #[test]
@@ -168,7 +174,7 @@ fn replay_made(e: &mut timeweave::Engine, q: &InterchangeQuery) -> usize {
         }
         let rides: Vec<_> = it.legs.iter().filter(|l| l.kind == LegKind::Ride).collect();
         assert_eq!(rides.len(), 2, "{row:?}");
-        assert_eq!((rides[0].trip_id.as_ref(), rides[1].trip_id.as_ref()), (Some(&row.arr_trip_id), row.dep_trip_id.as_ref()));
+        assert_eq!((rides[0].trip_id.as_deref(), rides[1].trip_id.as_deref()), (Some(&*row.arr_trip_id), row.dep_trip_id.as_deref()));
         assert_eq!(hms(rides[1].depart_s - rides[0].arrive_s), hms(row.wait_s.expect("made has a wait")), "{row:?}");
         n += 1;
     }

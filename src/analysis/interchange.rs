@@ -57,10 +57,10 @@ pub struct Connection {
     pub arr_stop: StopIdx,
     /// Arrival, s on the network's timeline.
     pub arrival_s: u32,
-    /// The arriving trip's route and direction.
-    pub arr_line: Line,
-    /// The departing route and direction.
-    pub line: Line,
+    /// The arriving trip's route and direction, an index into [`Audit::lines`].
+    pub arr_line: u32,
+    /// The departing route and direction, an index into [`Audit::lines`].
+    pub line: u32,
     /// The departure made (none unless the status is made).
     pub dep: Option<Dep>,
     pub change_s: Option<u32>,
@@ -115,7 +115,7 @@ pub fn line_of(tt: &Timetable, t: TripIdx) -> Line {
 }
 
 /// The change time from `a` (alighting trip `ta`) to `d` (boarding trip `td`); `None`: not possible.
-fn change(tt: &Timetable, p: &Params, a: StopIdx, ta: TripIdx, d: StopIdx, td: TripIdx) -> Option<u32> {
+pub fn change_time(tt: &Timetable, p: &Params, a: StopIdx, ta: TripIdx, d: StopIdx, td: TripIdx) -> Option<u32> {
     if a == d {
         return tt.change_s(a, ta, td, p.transfer_s());
     }
@@ -157,6 +157,8 @@ pub fn departures(net: &Network, stops: &[StopIdx]) -> Vec<(u32, u32)> {
 #[derive(Debug, Clone, Default)]
 pub struct Audit {
     pub rows: Vec<Connection>,
+    /// The routes and directions the rows name.
+    pub lines: Vec<Line>,
     /// Arrivals in the window.
     pub arrivals: u32,
     /// Departures on the whole network (the date and the early hours of the next).
@@ -235,8 +237,8 @@ pub fn audit(tt: &Timetable, net: &Network, p: &Params, stops: &[StopIdx], spec:
                 arr_trip,
                 arr_stop: a_stop,
                 arrival_s: at,
-                arr_line: lines[own].clone(),
-                line: lines[l].clone(),
+                arr_line: own as u32,
+                line: l as u32,
                 dep: None,
                 change_s: None,
                 wait_s: None,
@@ -253,7 +255,7 @@ pub fn audit(tt: &Timetable, net: &Network, p: &Params, stops: &[StopIdx], spec:
                 }
                 any = true;
                 let (d_trip, d_stop) = (net.instance_of(f).trip, net.stop(f as usize));
-                let Some(ch) = change(tt, p, a_stop, arr_trip, d_stop, d_trip) else { continue };
+                let Some(ch) = change_time(tt, p, a_stop, arr_trip, d_stop, d_trip) else { continue };
                 possible = true;
                 row.change_s = Some(ch);
                 if slack < ch {
@@ -272,7 +274,7 @@ pub fn audit(tt: &Timetable, net: &Network, p: &Params, stops: &[StopIdx], spec:
             rows.push(row);
         }
     }
-    Audit { rows, arrivals: arrivals.len() as u32, departures: all.len() as u32 }
+    Audit { rows, lines, arrivals: arrivals.len() as u32, departures: all.len() as u32 }
 }
 
 /// Waits that count as made "within" these many minutes in the summaries (inclusive).
@@ -328,19 +330,23 @@ impl Tally {
 /// One pair of arriving and departing route/direction at a station.
 #[derive(Debug, Clone, PartialEq)]
 pub struct PairSummary {
-    pub arr: Line,
-    pub dep: Line,
+    /// Indices into [`Audit::lines`].
+    pub arr: u32,
+    pub dep: u32,
     /// `rows` is the number of arrivals of `arr`.
     pub tally: Tally,
 }
 
 /// Per pair of arriving and departing line, in line order.
-pub fn pair_summaries(rows: &[Connection], near_s: u32) -> Vec<PairSummary> {
-    let mut groups: std::collections::BTreeMap<(&Line, &Line), Vec<&Connection>> = Default::default();
-    for r in rows {
-        groups.entry((&r.arr_line, &r.line)).or_default().push(r);
+pub fn pair_summaries(a: &Audit, near_s: u32) -> Vec<PairSummary> {
+    let mut groups: std::collections::HashMap<(u32, u32), Vec<&Connection>> = Default::default();
+    for r in &a.rows {
+        groups.entry((r.arr_line, r.line)).or_default().push(r);
     }
-    groups.into_iter().map(|((a, d), v)| PairSummary { arr: a.clone(), dep: d.clone(), tally: Tally::of(v.into_iter(), near_s) }).collect()
+    let mut out: Vec<PairSummary> =
+        groups.into_iter().map(|((arr, dep), v)| PairSummary { arr, dep, tally: Tally::of(v.into_iter(), near_s) }).collect();
+    out.sort_by(|x, y| (&a.lines[x.arr as usize], &a.lines[x.dep as usize]).cmp(&(&a.lines[y.arr as usize], &a.lines[y.dep as usize])));
+    out
 }
 
 /// Ranks (1 = first) by near misses, most first, and by median wait, longest first (a station

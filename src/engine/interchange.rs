@@ -30,26 +30,46 @@ pub struct InterchangeQuery {
     pub near_miss_min: Option<u32>,
 }
 
+/// Shared text: ids repeat across millions of rows, so each is held once.
+pub type Text = std::sync::Arc<str>;
+
+/// A service-day time: seconds from noon minus 12 h of the service date; shown (and serialised)
+/// as HH:MM:SS, the hours passing 24 after midnight.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+pub struct ServiceTime(pub u32);
+
+impl std::fmt::Display for ServiceTime {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let s = self.0;
+        write!(f, "{:02}:{:02}:{:02}", s / 3600, s / 60 % 60, s % 60)
+    }
+}
+
+impl Serialize for ServiceTime {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.collect_str(self)
+    }
+}
+
 /// One row of the audit, as the shells write it.
 #[derive(Debug, Clone, Serialize)]
 pub struct ConnectionRow {
-    pub station: String,
-    pub arr_trip_id: String,
-    pub arr_route_id: String,
-    pub arr_direction: String,
-    pub arr_stop_id: String,
-    /// Service-day time, HH:MM:SS (may pass 24:00:00).
-    pub arrival: String,
-    pub dep_route_id: String,
-    pub dep_direction: String,
-    pub dep_trip_id: Option<String>,
-    pub dep_stop_id: Option<String>,
-    pub departure: Option<String>,
+    pub station: Text,
+    pub arr_trip_id: Text,
+    pub arr_route_id: Text,
+    pub arr_direction: Text,
+    pub arr_stop_id: Text,
+    pub arrival: ServiceTime,
+    pub dep_route_id: Text,
+    pub dep_direction: Text,
+    pub dep_trip_id: Option<Text>,
+    pub dep_stop_id: Option<Text>,
+    pub departure: Option<ServiceTime>,
     pub change_s: Option<u32>,
     pub wait_s: Option<u32>,
     pub status: Status,
     pub missed_by_s: Option<u32>,
-    pub missed_trip_id: Option<String>,
+    pub missed_trip_id: Option<Text>,
     /// Missed by at most the near-miss limit.
     pub near_miss: bool,
     /// Network events of the arrival and of the departure made, for [`Engine::connection_journey`].
@@ -133,9 +153,25 @@ pub struct InterchangeReport {
     pub note: Option<String>,
 }
 
-/// Service-day time text: seconds from the date's noon-minus-12 h, HH:MM:SS.
+/// Service-day time text, HH:MM:SS.
 pub fn service_time(s: u32) -> String {
-    format!("{:02}:{:02}:{:02}", s / 3600, s / 60 % 60, s % 60)
+    ServiceTime(s).to_string()
+}
+
+/// Each id made shared text once.
+struct Ids<'a> {
+    tt: &'a crate::timetable::Timetable,
+    trips: Vec<Option<Text>>,
+    stops: Vec<Option<Text>>,
+}
+
+impl Ids<'_> {
+    fn trip(&mut self, t: TripIdx) -> Text {
+        self.trips[t.idx()].get_or_insert_with(|| self.tt.trips[t.idx()].id.as_str().into()).clone()
+    }
+    fn stop(&mut self, s: StopIdx) -> Text {
+        self.stops[s.idx()].get_or_insert_with(|| self.tt.stop(s).id.as_str().into()).clone()
+    }
 }
 
 impl Engine {
@@ -177,28 +213,12 @@ impl Engine {
         }
         let (horizon_s, near_s) = (horizon_min * 60, near_miss_min * 60);
         let all = q.station == "all";
-        let stations: Vec<StopIdx> = if all {
-            let mut v: Vec<StopIdx> =
-                (0..self.places.len()).map(|p| self.places.stops[p]).filter(|&s| self.tt.stop(s).kind == StopKind::Station).collect();
-            v.sort_by(|a, b| self.tt.stop(*a).id.cmp(&self.tt.stop(*b).id));
-            v
-        } else {
-            vec![self.places.stops[self.resolve_place(&q.station)?]]
-        };
+        let stations = self.interchange_stations(&q.station)?;
         let p = self.params_for(&super::PlanQuery::default())?;
         self.network(date);
+        let stop_sets = self.station_stop_sets(&stations, &p);
         let net = self.net.as_ref().expect("network built");
         let tt = &self.tt;
-        // Each stop under its station, found once for all the stations audited.
-        let mut within: std::collections::HashMap<StopIdx, Vec<StopIdx>> = stations.iter().map(|&st| (st, Vec::new())).collect();
-        for c in (0..tt.stops.len() as u32).map(StopIdx) {
-            let st = tt.station_of(c);
-            if st != c {
-                if let Some(v) = within.get_mut(&st) {
-                    v.push(c);
-                }
-            }
-        }
         let route = |l: &Line| &tt.routes[l.route as usize];
         let route_name = |l: &Line| {
             let r = route(l);
@@ -208,7 +228,7 @@ impl Engine {
                 r.short_name.clone()
             }
         };
-        let trip_id = |t: TripIdx| tt.trips[t.idx()].id.clone();
+        let mut ids = Ids { tt, trips: vec![None; tt.trips.len()], stops: vec![None; tt.stops.len()] };
         let mut report = InterchangeReport {
             date: date.to_string(),
             window: [service_time(span.start_s), service_time(span.end_s)],
@@ -220,51 +240,54 @@ impl Engine {
         let (mut arrivals_seen, mut departures_seen) = (0u32, 0u32);
         let total = stations.len();
         for (done, &st) in stations.iter().enumerate() {
-            let own: Vec<StopIdx> =
-                if tt.stop(st).kind == StopKind::Station { std::mem::take(within.get_mut(&st).expect("listed")) } else { vec![st] };
-            let stops = station_stops(tt, &p, &own);
-            let a = audit(tt, net, &p, &stops, &AuditSpec { start_s: span.start_s, end_s: span.end_s, horizon_s });
+            let stops = &stop_sets[done];
+            let a = audit(tt, net, &p, stops, &AuditSpec { start_s: span.start_s, end_s: span.end_s, horizon_s });
             arrivals_seen += a.arrivals;
             departures_seen += a.departures;
-            let station = tt.stop(st).id.clone();
+            let station = ids.stop(st);
+            let line_text: Vec<(Text, Text)> = a.lines.iter().map(|l| (route(l).id.as_str().into(), l.direction.as_str().into())).collect();
             let rows: Vec<ConnectionRow> = a
                 .rows
                 .iter()
-                .map(|r| ConnectionRow {
-                    station: station.clone(),
-                    arr_trip_id: trip_id(r.arr_trip),
-                    arr_route_id: route(&r.arr_line).id.clone(),
-                    arr_direction: r.arr_line.direction.clone(),
-                    arr_stop_id: tt.stop(r.arr_stop).id.clone(),
-                    arrival: service_time(r.arrival_s),
-                    dep_route_id: route(&r.line).id.clone(),
-                    dep_direction: r.line.direction.clone(),
-                    dep_trip_id: r.dep.map(|d| trip_id(d.trip)),
-                    dep_stop_id: r.dep.map(|d| tt.stop(d.stop).id.clone()),
-                    departure: r.dep.map(|d| service_time(d.at)),
-                    change_s: r.change_s,
-                    wait_s: r.wait_s,
-                    status: r.status,
-                    missed_by_s: r.missed.map(|m| m.0),
-                    missed_trip_id: r.missed.map(|m| trip_id(m.1)),
-                    near_miss: r.missed.is_some_and(|m| m.0 <= near_s),
-                    arr_event: r.arrival_event,
-                    dep_event: r.dep.map(|d| d.event),
+                .map(|r| {
+                    let (arr, dep) = (&line_text[r.arr_line as usize], &line_text[r.line as usize]);
+                    ConnectionRow {
+                        station: station.clone(),
+                        arr_trip_id: ids.trip(r.arr_trip),
+                        arr_route_id: arr.0.clone(),
+                        arr_direction: arr.1.clone(),
+                        arr_stop_id: ids.stop(r.arr_stop),
+                        arrival: ServiceTime(r.arrival_s),
+                        dep_route_id: dep.0.clone(),
+                        dep_direction: dep.1.clone(),
+                        dep_trip_id: r.dep.map(|d| ids.trip(d.trip)),
+                        dep_stop_id: r.dep.map(|d| ids.stop(d.stop)),
+                        departure: r.dep.map(|d| ServiceTime(d.at)),
+                        change_s: r.change_s,
+                        wait_s: r.wait_s,
+                        status: r.status,
+                        missed_by_s: r.missed.map(|m| m.0),
+                        missed_trip_id: r.missed.map(|m| ids.trip(m.1)),
+                        near_miss: r.missed.is_some_and(|m| m.0 <= near_s),
+                        arr_event: r.arrival_event,
+                        dep_event: r.dep.map(|d| d.event),
+                    }
                 })
                 .collect();
             if !each(done + 1, total, &rows) {
                 return Ok(None);
             }
-            for s in ia::pair_summaries(&a.rows, near_s) {
+            for s in ia::pair_summaries(&a, near_s) {
                 let share = |k: usize| if s.tally.rows == 0 { 0.0 } else { s.tally.made_within[k] as f64 / s.tally.rows as f64 };
+                let (arr, dep) = (&a.lines[s.arr as usize], &a.lines[s.dep as usize]);
                 report.pairs.push(PairRow {
-                    station: station.clone(),
-                    arr_route_id: route(&s.arr).id.clone(),
-                    arr_route_name: route_name(&s.arr),
-                    arr_direction: s.arr.direction.clone(),
-                    dep_route_id: route(&s.dep).id.clone(),
-                    dep_route_name: route_name(&s.dep),
-                    dep_direction: s.dep.direction.clone(),
+                    station: station.to_string(),
+                    arr_route_id: route(arr).id.clone(),
+                    arr_route_name: route_name(arr),
+                    arr_direction: arr.direction.clone(),
+                    dep_route_id: route(dep).id.clone(),
+                    dep_route_name: route_name(dep),
+                    dep_direction: dep.direction.clone(),
                     arrivals: s.tally.rows,
                     made: s.tally.made,
                     made_within_5: share(0),
@@ -278,7 +301,7 @@ impl Engine {
             let t = Tally::of(a.rows.iter(), near_s);
             let s = tt.stop(st);
             report.stations.push(StationRow {
-                station,
+                station: station.to_string(),
                 name: s.name.clone(),
                 lat: s.lat,
                 lon: s.lon,
@@ -296,7 +319,7 @@ impl Engine {
             tallies.push(t);
             if !all {
                 let last = span.end_s.saturating_add(horizon_s);
-                report.departures = ia::departures(net, &stops)
+                report.departures = ia::departures(net, stops)
                     .into_iter()
                     .filter(|&(t, _)| t >= span.start_s && t <= last)
                     .map(|(t, e)| {
@@ -305,7 +328,7 @@ impl Engine {
                         DepartureMark {
                             route_id: route(&l).id.clone(),
                             direction: l.direction,
-                            trip_id: trip_id(trip),
+                            trip_id: tt.trips[trip.idx()].id.clone(),
                             stop_id: tt.stop(net.stop(e as usize)).id.clone(),
                             departure: service_time(t),
                         }
@@ -333,6 +356,40 @@ impl Engine {
             });
         }
         Ok(Some(report))
+    }
+
+    /// The stations `station` names: every station (`all`, in id order) or the one place.
+    pub fn interchange_stations(&self, station: &str) -> Result<Vec<StopIdx>, QueryError> {
+        if station != "all" {
+            return Ok(vec![self.places.stops[self.resolve_place(station)?]]);
+        }
+        let mut v: Vec<StopIdx> =
+            (0..self.places.len()).map(|p| self.places.stops[p]).filter(|&s| self.tt.stop(s).kind == StopKind::Station).collect();
+        v.sort_by(|a, b| self.tt.stop(*a).id.cmp(&self.tt.stop(*b).id));
+        Ok(v)
+    }
+
+    /// The stops each station (or stop) is audited over: its own stops (the stop itself outside
+    /// any station) and the stops they walk to ([`station_stops`]).
+    pub fn station_stop_sets(&self, stations: &[StopIdx], p: &crate::route::Params) -> Vec<Vec<StopIdx>> {
+        let tt = &self.tt;
+        // Each stop under its station, found once for all the stations.
+        let mut within: std::collections::HashMap<StopIdx, Vec<StopIdx>> = stations.iter().map(|&st| (st, Vec::new())).collect();
+        for c in (0..tt.stops.len() as u32).map(StopIdx) {
+            let st = tt.station_of(c);
+            if st != c {
+                if let Some(v) = within.get_mut(&st) {
+                    v.push(c);
+                }
+            }
+        }
+        stations
+            .iter()
+            .map(|&st| {
+                let own = if tt.stop(st).kind == StopKind::Station { within.get(&st).cloned().unwrap_or_default() } else { vec![st] };
+                station_stops(tt, p, &own)
+            })
+            .collect()
     }
 
     /// The two-ride journey of a made connection on `date` (its row's `arr_event` and

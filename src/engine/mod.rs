@@ -207,6 +207,11 @@ impl Engine {
     }
 
     /// The network of `date`, built on first use and kept until another date is asked for.
+    /// The network last built ([`Engine::network`]), if any.
+    pub fn built(&self) -> Option<&Network> {
+        self.net.as_ref()
+    }
+
     pub fn network(&mut self, date: NaiveDate) -> &Network {
         if self.net.as_ref().is_none_or(|n| n.date != date) {
             self.net = Some(Network::build(&self.tt, date));

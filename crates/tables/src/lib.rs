@@ -20,7 +20,7 @@ use parquet::basic::Compression;
 use parquet::file::properties::WriterProperties;
 use timeweave::analysis::interchange::Status;
 use timeweave::analysis::window::{Rows, NONE};
-use timeweave::engine::interchange::ConnectionRow;
+use timeweave::engine::interchange::{ConnectionRow, Text};
 use timeweave::engine::window::WindowReach;
 
 /// Rows per Parquet row group (and per Arrow batch handed to the writer).
@@ -281,30 +281,45 @@ impl<W: Write> ConnectionTable<W> {
     }
 
     pub fn add(&mut self, rows: &[ConnectionRow]) -> Result<(), TableError> {
-        let num = |x: Option<u32>| x.map(|v| v.to_string()).unwrap_or_default();
+        use std::fmt::Write as _;
+        // One buffer per cell kind, reused: no allocation per row.
+        let (mut arr, mut dep) = (String::new(), String::new());
+        let mut nums = [String::new(), String::new(), String::new()];
         for r in rows {
             let status = match r.status {
                 Status::Made => "made",
                 Status::None => "none",
                 Status::NotPossible => "not_possible",
             };
+            arr.clear();
+            let _ = write!(arr, "{}", r.arrival);
+            dep.clear();
+            if let Some(d) = r.departure {
+                let _ = write!(dep, "{d}");
+            }
+            for (buf, v) in nums.iter_mut().zip([r.change_s, r.wait_s, r.missed_by_s]) {
+                buf.clear();
+                if let Some(v) = v {
+                    let _ = write!(buf, "{v}");
+                }
+            }
             self.w.write_record([
-                r.station.as_str(),
+                &*r.station,
                 &r.arr_trip_id,
                 &r.arr_route_id,
                 &r.arr_direction,
                 &r.arr_stop_id,
-                &r.arrival,
+                &arr,
                 &r.dep_route_id,
                 &r.dep_direction,
-                r.dep_trip_id.as_deref().unwrap_or(""),
-                r.dep_stop_id.as_deref().unwrap_or(""),
-                r.departure.as_deref().unwrap_or(""),
-                &num(r.change_s),
-                &num(r.wait_s),
+                opt(&r.dep_trip_id),
+                opt(&r.dep_stop_id),
+                &dep,
+                &nums[0],
+                &nums[1],
                 status,
-                &num(r.missed_by_s),
-                r.missed_trip_id.as_deref().unwrap_or(""),
+                &nums[2],
+                opt(&r.missed_trip_id),
                 if r.near_miss { "1" } else { "0" },
             ])?;
         }
@@ -315,6 +330,10 @@ impl<W: Write> ConnectionTable<W> {
     pub fn finish(self) -> Result<W, TableError> {
         self.w.into_inner().map_err(|e| TableError::Io(e.into_error()))
     }
+}
+
+fn opt(x: &Option<Text>) -> &str {
+    x.as_deref().unwrap_or("")
 }
 
 /// Any serialisable rows as CSV, the header from the field names (pairs and stations of the
