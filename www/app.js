@@ -961,6 +961,11 @@ const views = {
     panel: $('view-matrix'),
     load: async () => (await import('./views/matrix.js')).initMatrixView({ client, say }),
   },
+  interchange: {
+    tab: $('tab-interchange'),
+    panel: $('view-interchange'),
+    load: async () => (await import('./views/interchange.js')).initInterchangeView({ client, getSketch: () => state.sketch, say }),
+  },
 };
 
 async function showView(name, focus) {

@@ -128,6 +128,11 @@ export class EngineClient {
   tableBegin(format, percentiles) { return this.#call('table_begin', { format, percentiles }); }
   tableAdd(origin, rows) { return this.#call('table_add', { origin, rows }); }
   tableFinish() { return this.#call('table_finish', {}); }
+  /** The interchange audit (InterchangeQuery fields); `onProgress(stage, fraction)` per station. */
+  interchange(query, onProgress) { return this.#call('interchange', { query }, onProgress); }
+  /** One table of the audit as CSV bytes: 'rows', 'pairs' or 'stations'. */
+  interchangeCsv(query, table) { return this.#call('interchange_csv', { query, table }); }
+  connectionJourney(date, arrEvent, depEvent) { return this.#call('connection_journey', { date, arr_event: arrEvent, dep_event: depEvent }); }
 
   /** A second engine in its own worker with the same feeds (for work spread over cores). */
   async twin() {

@@ -109,7 +109,8 @@ function itineraryPoints(itin, proj, stopById) {
  * Draws `data` (engine.sketch()) into `svg`, with `itinerary` (or null) on top. With
  * `fitJourney` the view is cropped to the itinerary and its surroundings; otherwise the whole
  * network is shown. `opts.fill(stopId)` gives a stop's colour (a view colouring stops by a
- * value) and `opts.describe` a sentence added to the description. Returns a one-line description
+ * value), `opts.size(stopId)` a `{ r, fill, label }` circle drawn on top (a view sizing stops by a
+ * value; r in CSS pixels) and `opts.describe` a sentence added to the description. Returns a one-line description
  * (also put in the SVG's <title>).
  */
 export function drawSketch(svg, data, itinerary, fitJourney = true, opts = {}) {
@@ -164,11 +165,21 @@ export function drawSketch(svg, data, itinerary, fitJourney = true, opts = {}) {
   }
 
   const gStops = node('g', { class: 'sk-stops' });
+  // Stops a view sizes by a value: drawn last, on top, never merged with a neighbour.
+  const gSized = node('g', { class: 'sk-sized' });
   // Draw stops that would land on the same spot once: a station and its platforms only overdraw.
   const seen = new Set();
   for (const st of data.stops) {
     if (!Number.isFinite(st.lat) || !Number.isFinite(st.lon)) continue;
     const [x, y] = proj.xy(st.lat, st.lon);
+    const size = opts.size ? opts.size(st.id) : null;
+    if (size) {
+      const c = node('circle', { cx: x.toFixed(1), cy: y.toFixed(1), r: (size.r * px).toFixed(2), class: 'sk-sized-stop', 'stroke-width': (1.5 * px).toFixed(2) });
+      c.style.fill = size.fill;
+      c.append(node('title', {}, size.label || st.name));
+      gSized.append(c);
+      continue;
+    }
     const key = `${Math.round(x / (2 * px))}:${Math.round(y / (2 * px))}`;
     if (seen.has(key)) continue;
     seen.add(key);
@@ -181,7 +192,7 @@ export function drawSketch(svg, data, itinerary, fitJourney = true, opts = {}) {
     c.append(node('title', {}, `${st.name}${extra}`));
     gStops.append(c);
   }
-  svg.append(gLines, gStops);
+  svg.append(gLines, gStops, gSized);
 
   let label = `Network sketch: ${data.stops.length} stops, ${(data.lines || []).length} lines.`;
   if (opts.describe) label += ` ${opts.describe}`;

@@ -5,9 +5,10 @@
 //   page → worker  { id, op, args }            op: load | remove | feeds | search | resolve | plan | sketch
 //                                               | reach_window | pair_profile | places | matrix_setup | matrix_origin
 //                                               | table_begin | table_add | table_finish
+//                                               | interchange | interchange_csv | connection_journey
 //   worker → page  { type: 'ready' }           once the WASM module is instantiated
 //                  { type: 'init-failed', error }
-//                  { type: 'progress', id, stage, fraction }   during `load`
+//                  { type: 'progress', id, stage, fraction }   during `load` and `interchange`
 //                  { type: 'result', id, ok: true, value }
 //                  { type: 'result', id, ok: false, error, fatal }
 // `error` is a plain object: a FeedIssue { file, line, field, value, message } when the engine
@@ -89,6 +90,20 @@ function run(op, args, id) {
     }
     case 'table_finish':
       return engine.table_finish();
+    case 'interchange': {
+      let lastPost = 0;
+      const progress = (done, total) => {
+        const now = performance.now();
+        if (done < total && now - lastPost < 50) return;
+        lastPost = now;
+        self.postMessage({ type: 'progress', id, stage: `${done} of ${total} stations`, fraction: done / total });
+      };
+      return engine.interchange(args.query, progress);
+    }
+    case 'interchange_csv':
+      return engine.interchange_csv(args.query, args.table);
+    case 'connection_journey':
+      return engine.connection_journey(args.date, args.arr_event, args.dep_event);
     default:
       throw new Error(`unknown request "${op}"`);
   }

@@ -6,6 +6,7 @@ use serde::Serialize;
 use wasm_bindgen::prelude::*;
 
 use timeweave::analysis::window::{Destinations, Rows, TravelTimes};
+use timeweave::engine::interchange::InterchangeQuery;
 use timeweave::engine::window::{WindowQuery, WindowSetting};
 use timeweave::engine::{Engine as Core, PlanQuery};
 use timeweave::error::FeedIssue;
@@ -77,6 +78,10 @@ struct QueryFailure {
 /// A failed query as the JS error value: its message and its typed detail.
 fn failure(e: timeweave::error::QueryError) -> JsValue {
     to_js(&QueryFailure { message: e.to_string(), detail: e }).unwrap_or_else(|e| e)
+}
+
+fn interchange_query(v: JsValue) -> Result<InterchangeQuery, JsValue> {
+    serde_wasm_bindgen::from_value(v).map_err(|e| JsValue::from_str(&format!("bad interchange query: {e}")))
 }
 
 fn window_query(v: JsValue) -> Result<WindowQuery, JsValue> {
@@ -273,6 +278,72 @@ impl Engine {
     pub fn table_finish(&mut self) -> Result<Vec<u8>, JsValue> {
         let t = self.table.take().ok_or_else(|| JsValue::from_str("table_begin was not called"))?;
         t.finish().map_err(|e| JsValue::from_str(&e.to_string()))
+    }
+
+    /// The interchange audit (`InterchangeQuery` fields) as JSON parsed by the browser. For one
+    /// station the report keeps its rows; for `all` it holds the summaries and the ranking only
+    /// (the rows of a whole network are for the CSV). `progress(done, total)` is told after each
+    /// station.
+    pub fn interchange(&mut self, query: JsValue, progress: Option<js_sys::Function>) -> Result<JsValue, JsValue> {
+        let q = interchange_query(query)?;
+        let keep = q.station != "all";
+        let mut rows = Vec::new();
+        let mut report = self
+            .core
+            .interchange_with(&q, &mut |done, total, chunk| {
+                if keep {
+                    rows.extend_from_slice(chunk);
+                }
+                if let Some(f) = &progress {
+                    let _ = f.call2(&JsValue::NULL, &JsValue::from(done as u32), &JsValue::from(total as u32));
+                }
+                true
+            })
+            .map_err(failure)?
+            .ok_or_else(|| JsValue::from_str("cancelled"))?;
+        report.rows = rows;
+        json_value(&report)
+    }
+
+    /// One table of the interchange audit as CSV bytes, the same as the CLI writes: `rows`
+    /// (`--out`), `pairs` or `stations`.
+    pub fn interchange_csv(&mut self, query: JsValue, table: &str) -> Result<Vec<u8>, JsValue> {
+        let q = interchange_query(query)?;
+        let err = |e: timeweave_tables::TableError| JsValue::from_str(&e.to_string());
+        match table {
+            "rows" => {
+                let mut t = timeweave_tables::ConnectionTable::new(Vec::new()).map_err(err)?;
+                let mut failed = None;
+                self.core
+                    .interchange_with(&q, &mut |_, _, chunk| match t.add(chunk) {
+                        Ok(()) => true,
+                        Err(e) => {
+                            failed = Some(e);
+                            false
+                        }
+                    })
+                    .map_err(failure)?;
+                if let Some(e) = failed {
+                    return Err(err(e));
+                }
+                t.finish().map_err(err)
+            }
+            "pairs" | "stations" => {
+                let r =
+                    self.core.interchange_with(&q, &mut |_, _, _| true).map_err(failure)?.ok_or_else(|| JsValue::from_str("cancelled"))?;
+                if table == "pairs" {
+                    timeweave_tables::rows_csv(Vec::new(), &r.pairs).map_err(err)
+                } else {
+                    timeweave_tables::rows_csv(Vec::new(), &r.stations).map_err(err)
+                }
+            }
+            other => Err(JsValue::from_str(&format!("no table {other:?}: rows, pairs or stations"))),
+        }
+    }
+
+    /// The two-ride journey of a made connection (a row's `arr_event` and `dep_event` on `date`).
+    pub fn connection_journey(&mut self, date: &str, arr_event: u32, dep_event: u32) -> Result<JsValue, JsValue> {
+        json_value(&self.core.connection_journey(date, arr_event, dep_event).map_err(failure)?)
     }
 
     pub fn stop_ids(&self) -> Result<JsValue, JsValue> {
