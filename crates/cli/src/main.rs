@@ -22,7 +22,16 @@ const INTERCHANGE_HELP: &str = "Definitions:
   change_s: the transfers.txt rule at one stop (trip over route over stop; type 1 timed = 0 s, 2 = min_transfer_time, 3 = not possible), else 60 s; between two stops the walking link's time (the feed's min_transfer_time, else pathways, else the walk at 1.3 m/s).
   slack: departure minus arrival. made: the first departure of the route/direction with slack >= change_s; wait_s = its slack. none: no such departure within --horizon. not_possible: transfers.txt forbids the change or no walking link joins the stops.
   missed_by_s: change_s minus the slack of the latest departure with 0 <= slack < change_s (missed_trip_id); near_miss = 1 when it is at most --near-miss.
-  arrival, departure: service-day time HH:MM:SS (may pass 24:00:00).";
+  arrival, departure: service-day time HH:MM:SS (may pass 24:00:00).
+  A trip that ends here and continues as the next trip of its block (block_id, same service day) starting here is an in-seat continuation: no row for that route/direction.
+NAME.pairs.csv, one row per arriving x departing route/direction:
+  arrivals: arrivals of the arriving route/direction in the window; made: of them, connections made.
+  made_within_5/10/15: share (0-1) of the arrivals made with wait_s <= 5/10/15 min.
+  median_wait_s, p90_wait_s: of the made connections, seconds, linear interpolation between the closest ranks; empty when none is made.
+  near_misses: arrivals that missed a departure by at most --near-miss (even if a later one is made).
+NAME.stations.csv, one row per station, ranked by near misses:
+  arrivals, connections (arrival x route/direction rows), made, none, not_possible, near_misses, median_wait_s, p90_wait_s as above;
+  rank_near_misses: 1 = most near misses; rank_median_wait: 1 = longest median wait (stations with none made last).";
 
 const WINDOW_HELP: &str = const_format::concatcp!(TIMES, "\n\n", window::DEFINITIONS);
 
@@ -194,7 +203,8 @@ enum Command {
         /// Departures up to this long after an arrival are considered, minutes [default: 60].
         #[arg(long, value_name = "MIN")]
         horizon: Option<u32>,
-        /// Output CSV file (written whole or not at all).
+        /// Output CSV file of the rows; NAME.pairs.csv and NAME.stations.csv are written beside it
+        /// (all three whole or not at all).
         #[arg(long, value_name = "FILE.csv")]
         out: PathBuf,
     },

@@ -19,7 +19,9 @@
 // Not a `*.test.mjs` file: the test command does not run it. Run: node tests/browser/bench/bench.mjs
 // Environment: TIMEWEAVE_BENCH_FEED (default bench-out/metro-1.zip), TIMEWEAVE_BENCH_QUERIES
 // (default 1000), TIMEWEAVE_BENCH_DATE (default 2026-12-02), TIMEWEAVE_BENCH_KINDS (comma-separated
-// subset of plan1,plan3,strict,reach,reach_minutes; default all), TIMEWEAVE_BIN.
+// subset of plan1,plan3,strict,reach,reach_minutes,interchange; default all), TIMEWEAVE_BIN.
+// `interchange`: the audit of each station, 07:00–09:00, one at a time (what the page's
+// Connections view runs for one station), after one audit of all stations to list them.
 
 import { spawn, execFileSync } from 'node:child_process';
 import { createServer } from 'node:net';
@@ -33,7 +35,7 @@ const N = Math.max(1, Number(process.env.TIMEWEAVE_BENCH_QUERIES || 1000));
 const DATE = process.env.TIMEWEAVE_BENCH_DATE || '2026-12-02';
 const OUT_DIR = path.join(REPO, 'bench-out');
 const LIMIT_MIN = 240;
-const KINDS = (process.env.TIMEWEAVE_BENCH_KINDS || 'plan1,plan3,strict,reach,reach_minutes').split(',');
+const KINDS = (process.env.TIMEWEAVE_BENCH_KINDS || 'plan1,plan3,strict,reach,reach_minutes,interchange').split(',');
 
 // ------------------------------------------------------------------ server and processes
 
@@ -340,6 +342,27 @@ async function main() {
       }, { queries, date: DATE, kind: { key: kind.key, call: kind.call, q: kind.q || {} }, limit: LIMIT_MIN });
       result.kinds.push({ key: kind.key, label: kind.label, ...stats(r.times), answered: r.answered, failed: r.failed, first_error: r.firstError, mean_items: r.items / queries.length });
     }
+    if (KINDS.includes('interchange')) {
+      console.error('bench: interchange, every station one at a time');
+      const r = await page.evaluate(({ date }) => {
+        const { engine } = window.__bench;
+        const window_ = '07:00-09:00';
+        const t0 = performance.now();
+        const all = engine.interchange({ station: 'all', date, window: window_ });
+        const allMs = performance.now() - t0;
+        const times = [];
+        let busiest = { rows: -1 };
+        for (const st of all.stations) {
+          const t = performance.now();
+          const one = engine.interchange({ station: st.station, date, window: window_ });
+          const ms = performance.now() - t;
+          times.push(ms);
+          if (one.rows.length > busiest.rows) busiest = { rows: one.rows.length, station: st.station, ms };
+        }
+        return { times, allMs, stations: all.stations.length, busiest };
+      }, { date: DATE });
+      result.interchange = { ...stats(r.times), all_ms: r.allMs, stations: r.stations, busiest: r.busiest };
+    }
     const queryPeak = querySampler.stop();
     result.query_peak_rss = queryPeak.rss;
     result.query_peak_pss = queryPeak.pss;
@@ -390,6 +413,10 @@ function table(r) {
   row(k.strict, '—', null);
   row(k.reach, 'one-to-all ≤ 30 ms', 30);
   row(k.reach_minutes, 'one-to-all ≤ 30 ms', 30);
+  if (r.interchange) {
+    const x = r.interchange;
+    lines.push(`| \`interchange\` one station, 07:00–09:00, each of ${x.stations} stations (rows serialised to JS); busiest ${x.busiest.station}, ${x.busiest.rows} rows: ${fmtMs(x.busiest.ms)} ms; all stations at once ${(x.all_ms / 1000).toFixed(2)} s | ${fmtMs(x.median)} ms | ${fmtMs(x.p95)} ms | | one station ≤ 200 ms (the busiest) | ${x.busiest.ms <= 200 ? 'met' : 'missed'} |`);
+  }
   lines.push('');
   lines.push('| zip → routable | figure | target | |');
   lines.push('|---|---|---|---|');
