@@ -14,39 +14,21 @@
 //! Run with `cargo bench --bench interchange`; writes `bench-out/interchange.md`.
 
 use std::fmt::Write as _;
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::time::Instant;
 
 use timeweave::analysis::interchange::{self as ia, audit, change_time, AuditSpec, Line, Status};
 use timeweave::engine::interchange::InterchangeQuery;
-use timeweave::engine::{Engine, PlanQuery};
+use timeweave::engine::PlanQuery;
 use timeweave::graph::{Network, LAST_OF_TRIP};
 use timeweave::route::Params;
 use timeweave::timetable::{StopIdx, Timetable, NO_DROP_OFF, NO_PICKUP};
 use timeweave_synth::Preset;
 
+mod common;
+use common::{load, median};
+
 const DATE: &str = "2026-12-02";
-
-fn feed_path(preset: Preset) -> PathBuf {
-    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("bench-out");
-    let path = dir.join(format!("{}-1.zip", preset.name()));
-    if !path.exists() {
-        std::fs::create_dir_all(&dir).expect("bench-out/");
-        timeweave_disk::write_atomically(&path, |w| timeweave_synth::write_feed(preset, 1, w)).expect("write the generated feed");
-    }
-    path
-}
-
-fn load(preset: Preset) -> Engine {
-    let mut e = Engine::new();
-    timeweave_disk::load_feed(&mut e, &feed_path(preset), &mut |_, _| {}).expect("load the generated feed");
-    e
-}
-
-fn median(mut v: Vec<f64>) -> f64 {
-    v.sort_by(f64::total_cmp);
-    v[v.len() / 2]
-}
 
 /// One row as (arrival event, line, status, departure event, wait, missed by) for comparison.
 type Key = (u32, Line, Status, Option<u32>, Option<u32>, Option<u32>);
@@ -163,7 +145,7 @@ fn metro(out: &mut String) {
         whole.push(t.elapsed().as_secs_f64());
         assert_eq!(n, rows);
     }
-    let (c, w) = (median(core), median(whole));
+    let (c, w) = (median(&mut core), median(&mut whole));
     let _ = writeln!(out, "| metro | all {} stations, the whole service day ({rows} rows) | audit **{c:.2} s**; with rows as text, summaries, rankings **{w:.2} s** | | |", stations.len());
     let _ = writeln!(out, "| metro | every 6th station ({} stations) | ours {:.2} s | first version (scan every departure within the horizon) {:.2} s | **{:.1}×**; {differ} of {compared} rows differ |", sample.len(), ours_s, base_s, base_s / ours_s);
     let _ = writeln!(
@@ -185,7 +167,7 @@ fn region(out: &mut String) {
         rows = engine.interchange(&q).expect("audit").rows.len();
         times.push(t.elapsed().as_secs_f64() * 1e3);
     }
-    let _ = writeln!(out, "| region | the busiest station ({busiest}), 07:00–09:00, {rows} rows | **{:.1} ms** (native; the page's figure is in the guide) | | |", median(times));
+    let _ = writeln!(out, "| region | the busiest station ({busiest}), 07:00–09:00, {rows} rows | **{:.1} ms** (native; the page's figure is in the guide) | | |", median(&mut times));
 }
 
 fn main() {

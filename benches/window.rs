@@ -15,7 +15,7 @@
 //! (default `metro,region`).
 
 use std::fmt::Write as _;
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::sync::atomic::AtomicBool;
 use std::time::Instant;
 
@@ -23,41 +23,14 @@ use chrono::NaiveDate;
 use timeweave::analysis::matrix;
 use timeweave::analysis::window::{Rows, TravelTimes};
 use timeweave::engine::window::WindowQuery;
-use timeweave::engine::Engine;
 use timeweave::route::search::{self, Params, SearchState, Window};
 use timeweave::timetable::StopIdx;
 use timeweave_synth::Preset;
 
+mod common;
+use common::{load, median};
+
 const DATE: &str = "2026-12-02";
-
-fn feed_path(preset: Preset) -> PathBuf {
-    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("bench-out");
-    let path = dir.join(format!("{}-1.zip", preset.name()));
-    if !path.exists() {
-        std::fs::create_dir_all(&dir).expect("bench-out/");
-        timeweave_disk::write_atomically(&path, |w| timeweave_synth::write_feed(preset, 1, w)).expect("write the generated feed");
-    }
-    path
-}
-
-fn load(preset: Preset) -> Engine {
-    let mut e = Engine::new();
-    timeweave_disk::load_feed(&mut e, &feed_path(preset), &mut |_, _| {}).expect("load the generated feed");
-    e
-}
-
-fn median(v: &mut [f64]) -> f64 {
-    v.sort_by(f64::total_cmp);
-    if v.is_empty() {
-        return f64::NAN;
-    }
-    let m = v.len() / 2;
-    if v.len() % 2 == 1 {
-        v[m]
-    } else {
-        (v[m - 1] + v[m]) / 2.0
-    }
-}
 
 fn rss_mb() -> f64 {
     std::fs::read_to_string("/proc/self/status")

@@ -210,3 +210,23 @@ export function describeMatch(m) {
 export function labelFor(m) {
   return m.platform ? `${m.name} (platform ${m.platform})` : m.name;
 }
+
+/**
+ * The `feed:id` a box names: its pick, else the engine's one stop for the typed text (then shown
+ * as picked). Throws an Error whose message says what is wrong; for text that fits several stops
+ * it lists them and asks for a pick.
+ */
+export async function pickedStop(box, client) {
+  if (box.stopId) return box.stopId;
+  const text = box.input.value.trim();
+  try {
+    const m = await client.resolveStop(text);
+    const id = `${m.feed}:${m.id}`;
+    box.set(id, labelFor(m));
+    return id;
+  } catch (e) {
+    const issue = (e && e.issue) || {};
+    if (issue.AmbiguousStop) throw new Error(`"${text}" fits several stops: ${(issue.AmbiguousStop.candidates || []).join('; ')}. Pick one from the list.`);
+    throw e;
+  }
+}

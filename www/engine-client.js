@@ -130,6 +130,8 @@ export class EngineClient {
   tableFinish() { return this.#call('table_finish', {}); }
   /** The interchange audit (InterchangeQuery fields); `onProgress(stage, fraction)` per station. */
   interchange(query, onProgress) { return this.#call('interchange', { query }, onProgress); }
+  /** The rows of one route pair of the last one-station audit. */
+  interchangePair(p) { return this.#call('interchange_pair', { arr_route_id: p.arr_route_id, arr_direction: p.arr_direction, dep_route_id: p.dep_route_id, dep_direction: p.dep_direction }); }
   /** One table of the audit as CSV bytes: 'rows', 'pairs' or 'stations'. */
   interchangeCsv(query, table) { return this.#call('interchange_csv', { query, table }); }
   connectionJourney(date, arrEvent, depEvent) { return this.#call('connection_journey', { date, arr_event: arrEvent, dep_event: depEvent }); }

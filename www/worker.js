@@ -5,7 +5,7 @@
 //   page → worker  { id, op, args }            op: load | remove | feeds | search | resolve | plan | sketch
 //                                               | reach_window | pair_profile | places | matrix_setup | matrix_origin
 //                                               | table_begin | table_add | table_finish
-//                                               | interchange | interchange_csv | connection_journey
+//                                               | interchange | interchange_pair | interchange_csv | connection_journey
 //   worker → page  { type: 'ready' }           once the WASM module is instantiated
 //                  { type: 'init-failed', error }
 //                  { type: 'progress', id, stage, fraction }   during `load` and `interchange`
@@ -100,6 +100,8 @@ function run(op, args, id) {
       };
       return engine.interchange(args.query, progress);
     }
+    case 'interchange_pair':
+      return engine.interchange_pair(args.arr_route_id, args.arr_direction, args.dep_route_id, args.dep_direction);
     case 'interchange_csv':
       return engine.interchange_csv(args.query, args.table);
     case 'connection_journey':

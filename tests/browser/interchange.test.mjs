@@ -45,6 +45,16 @@ function records(text) {
   return lines.map((l) => Object.fromEntries(l.split(',').map((v, i) => [keys[i], v])));
 }
 
+/** A page with the demo city loaded and the connections view shown. */
+async function openView() {
+  const rec = await h.openPage(browser);
+  await h.openApp(rec.page, server.url);
+  await h.loadDemo(rec.page);
+  await rec.page.click('#tab-interchange');
+  await rec.page.waitForSelector('html[data-view="interchange"]');
+  return rec;
+}
+
 async function download(page, selector) {
   const [dl] = await Promise.all([page.waitForEvent('download'), page.click(selector)]);
   return fs.readFileSync(await dl.path(), 'utf8');
@@ -53,16 +63,13 @@ async function download(page, selector) {
 test('one station: the grid, time line, connections and downloads agree with the CLI', async () => {
   const cli = await native('ORR_CEN', 'cen');
   const pairs = records(cli.pairs);
-  const rec = await h.openPage(browser);
+  const rec = await openView();
   const { page } = rec;
-  await h.openApp(page, server.url);
-  await h.loadDemo(page);
-  await page.click('#tab-interchange');
-  await page.waitForSelector('html[data-view="interchange"]');
   await h.chooseStop(page, '#ix-station', 'Oskerveld Central');
   await page.fill('#ix-date', '2026-12-02');
   await page.click('#ix-run');
   await page.waitForSelector('#ix-grid .ix-cell');
+  await page.waitForSelector('#ix-table tbody tr');
   // One cell per route pair, each showing the CLI's share made within 10 min.
   const cells = await page.$$eval('#ix-grid .ix-cell', (bs) => bs.map((b) => b.getAttribute('aria-label')));
   assert.equal(cells.length, pairs.length);
@@ -102,12 +109,8 @@ test('one station: the grid, time line, connections and downloads agree with the
 test('every station: the ranking and the sketch sized by near misses agree with the CLI', async () => {
   const cli = await native('all', 'all');
   const stations = records(cli.stations);
-  const rec = await h.openPage(browser);
+  const rec = await openView();
   const { page } = rec;
-  await h.openApp(page, server.url);
-  await h.loadDemo(page);
-  await page.click('#tab-interchange');
-  await page.waitForSelector('html[data-view="interchange"]');
   await page.check('input[name="ix-scope"][value="all"]');
   assert.equal(await page.isVisible('#ix-station'), false, 'no station to choose');
   await page.fill('#ix-date', '2026-12-02');

@@ -5,7 +5,7 @@
 // the ranking by near misses and the sketch with stations sized by them. The tables download as
 // the CLI's files, written by the engine's own table writer.
 
-import { StopCombobox, labelFor } from '../combobox.js';
+import { StopCombobox, pickedStop } from '../combobox.js';
 import { drawSketch, el, node, contrast } from '../sketch.js';
 import { sortableTable, download, numberOrNull, fmtMin } from '../charts.js';
 
@@ -109,7 +109,7 @@ export function initInterchangeView({ client, getSketch, say }) {
       const ms = performance.now() - t0;
       last = { query: q, report, ms };
       for (const b of Object.values(ui.csv)) b.disabled = false;
-      ui.csv.rows.disabled = !report.rows.length && !all;
+      ui.csv.rows.disabled = !all && !(report.stations[0] && report.stations[0].connections);
       if (all) showNetwork(report);
       else showStation(report);
       say(ui.summary.textContent);
@@ -135,16 +135,8 @@ export function initInterchangeView({ client, getSketch, say }) {
       const text = $('ix-station').value.trim();
       if (!text) return fail('Choose a station.');
       try {
-        if (box.stopId) {
-          station = box.stopId;
-        } else {
-          const m = await client.resolveStop(text);
-          station = `${m.feed}:${m.id}`;
-          box.set(station, labelFor(m));
-        }
+        station = await pickedStop(box, client);
       } catch (e) {
-        const issue = (e && e.issue) || {};
-        if (issue.AmbiguousStop) return fail(`"${text}" fits several stops: ${(issue.AmbiguousStop.candidates || []).join('; ')}. Pick one from the list.`);
         return fail(e.message);
       }
     }
@@ -170,7 +162,7 @@ export function initInterchangeView({ client, getSketch, say }) {
     ui.sketchPanel.hidden = true;
     const st = r.stations[0];
     const [from, to] = r.window;
-    if (r.note || !st || !r.rows.length) {
+    if (r.note || !st || !st.connections) {
       ui.summary.textContent = r.note || 'Nothing to audit.';
       ui.table.replaceChildren();
       ui.grid.replaceChildren();
@@ -241,10 +233,15 @@ export function initInterchangeView({ client, getSketch, say }) {
     if (first) choose(r, first[0], first[1], false);
   }
 
-  function choose(r, p, button, focus = true) {
+  async function choose(r, p, button, focus = true) {
     for (const b of ui.grid.querySelectorAll('.ix-cell[aria-pressed="true"]')) b.setAttribute('aria-pressed', 'false');
     button.setAttribute('aria-pressed', 'true');
-    const rows = r.rows.filter((x) => x.arr_route_id === p.arr_route_id && x.arr_direction === p.arr_direction && x.dep_route_id === p.dep_route_id && x.dep_direction === p.dep_direction);
+    let rows;
+    try {
+      rows = await client.interchangePair(p);
+    } catch (e) {
+      return fail(e.message);
+    }
     const cols = [
       { key: 'arrival', label: 'Arrives', show: (x) => x.arrival },
       { key: 'arr_trip_id', label: 'Arriving trip' },

@@ -2,7 +2,7 @@
 // table, the sketch coloured by median minutes, a CSV download) and one pair's travel time at each
 // departure (the saw-tooth chart). The engine runs in the page's worker; this module only asks.
 
-import { StopCombobox, labelFor } from '../combobox.js';
+import { StopCombobox, pickedStop } from '../combobox.js';
 import { drawSketch } from '../sketch.js';
 import { minuteColor, minuteLegend, fmtMin, drawSawTooth, sortableTable, csvText, download, windowQuery } from '../charts.js';
 
@@ -71,18 +71,10 @@ export function initWindowView({ client, getSketch, say }) {
       return fail(e.message);
     }
     try {
-      if (fromBox.stopId) {
-        fromId = fromBox.stopId;
-      } else {
-        const m = await client.resolveStop(text);
-        fromId = `${m.feed}:${m.id}`;
-        fromBox.set(fromId, labelFor(m));
-      }
+      fromId = await pickedStop(fromBox, client);
       say(`Computing reach over ${query.window}…`);
       last = await client.reachWindow(fromId, query);
     } catch (e) {
-      const issue = (e && e.issue) || {};
-      if (issue.AmbiguousStop) return fail(`"${text}" fits several stops: ${(issue.AmbiguousStop.candidates || []).join('; ')}. Pick one from the list.`);
       return fail(e.message);
     }
     ui.caution.hidden = query.step_free === 'off';

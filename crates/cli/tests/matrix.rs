@@ -2,32 +2,12 @@
 //! write, read back with the `csv` and `parquet` crates (general-purpose readers of RFC 4180 and
 //! of the Parquet format), and their refusals of bad input before any work.
 
-use std::path::{Path, PathBuf};
-use std::process::Command;
+mod support;
 
-fn demo(folder: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("../../demo-data").join(folder)
-}
+use support::csv_rows;
 
 fn run(args: &[&str]) -> (bool, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_timeweave"))
-        .args(args.iter().take(1))
-        .arg("--feed")
-        .arg(demo("oskerveld-city"))
-        .arg("--feed")
-        .arg(demo("oskerveld-rail"))
-        .args(["--date", "2026-12-02"])
-        .args(&args[1..])
-        .output()
-        .expect("run the timeweave binary");
-    (out.status.success(), String::from_utf8_lossy(&out.stdout).into_owned(), String::from_utf8_lossy(&out.stderr).into_owned())
-}
-
-fn csv_rows(path: &Path) -> (Vec<String>, Vec<Vec<String>>) {
-    let mut r = csv::Reader::from_path(path).expect("open CSV");
-    let head = r.headers().expect("header").iter().map(str::to_string).collect();
-    let rows = r.records().map(|x| x.expect("RFC 4180 record").iter().map(str::to_string).collect()).collect();
-    (head, rows)
+    support::run(args[0], &args[1..])
 }
 
 #[test]

@@ -6,7 +6,7 @@ use serde::Serialize;
 use wasm_bindgen::prelude::*;
 
 use timeweave::analysis::window::{Destinations, Rows, TravelTimes};
-use timeweave::engine::interchange::InterchangeQuery;
+use timeweave::engine::interchange::{ConnectionRow, InterchangeQuery};
 use timeweave::engine::window::{WindowQuery, WindowSetting};
 use timeweave::engine::{Engine as Core, PlanQuery};
 use timeweave::error::FeedIssue;
@@ -24,6 +24,8 @@ pub struct Engine {
     rows: Rows,
     /// The matrix file being written (`table_begin` … `table_finish`).
     table: Option<MatrixTable<Vec<u8>>>,
+    /// The rows of the last one-station interchange audit, handed out a pair at a time.
+    ix_rows: Vec<ConnectionRow>,
 }
 
 fn json_value<T: Serialize>(v: &T) -> Result<JsValue, JsValue> {
@@ -107,6 +109,7 @@ impl Engine {
             times: TravelTimes::default(),
             rows: Rows::default(),
             table: None,
+            ix_rows: Vec::new(),
         }
     }
 
@@ -280,15 +283,17 @@ impl Engine {
         t.finish().map_err(|e| JsValue::from_str(&e.to_string()))
     }
 
-    /// The interchange audit (`InterchangeQuery` fields) as JSON parsed by the browser. For one
-    /// station the report keeps its rows; for `all` it holds the summaries and the ranking only
-    /// (the rows of a whole network are for the CSV). `progress(done, total)` is told after each
-    /// station.
+    /// The interchange audit (`InterchangeQuery` fields) as JSON parsed by the browser: the
+    /// summaries, the ranking and (one station) its departures, without the rows — a busy
+    /// station has hundreds of thousands. The rows of a one-station audit are kept here and
+    /// handed out a pair at a time (`interchange_pair`). `progress(done, total)` is told after
+    /// each station.
     pub fn interchange(&mut self, query: JsValue, progress: Option<js_sys::Function>) -> Result<JsValue, JsValue> {
         let q = interchange_query(query)?;
         let keep = q.station != "all";
         let mut rows = Vec::new();
-        let mut report = self
+        self.ix_rows = Vec::new();
+        let report = self
             .core
             .interchange_with(&q, &mut |done, total, chunk| {
                 if keep {
@@ -301,8 +306,29 @@ impl Engine {
             })
             .map_err(failure)?
             .ok_or_else(|| JsValue::from_str("cancelled"))?;
-        report.rows = rows;
+        self.ix_rows = rows;
         json_value(&report)
+    }
+
+    /// The rows of one arriving × leaving route/direction of the last one-station audit.
+    pub fn interchange_pair(
+        &self,
+        arr_route_id: &str,
+        arr_direction: &str,
+        dep_route_id: &str,
+        dep_direction: &str,
+    ) -> Result<JsValue, JsValue> {
+        let rows: Vec<&ConnectionRow> = self
+            .ix_rows
+            .iter()
+            .filter(|r| {
+                &*r.arr_route_id == arr_route_id
+                    && &*r.arr_direction == arr_direction
+                    && &*r.dep_route_id == dep_route_id
+                    && &*r.dep_direction == dep_direction
+            })
+            .collect();
+        json_value(&rows)
     }
 
     /// One table of the interchange audit as CSV bytes, the same as the CLI writes: `rows`

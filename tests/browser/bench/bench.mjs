@@ -357,7 +357,7 @@ async function main() {
           const one = engine.interchange({ station: st.station, date, window: window_ });
           const ms = performance.now() - t;
           times.push(ms);
-          if (one.rows.length > busiest.rows) busiest = { rows: one.rows.length, station: st.station, ms };
+          if (one.stations[0].connections > busiest.rows) busiest = { rows: one.stations[0].connections, station: st.station, ms };
         }
         return { times, allMs, stations: all.stations.length, busiest };
       }, { date: DATE });
@@ -415,7 +415,7 @@ function table(r) {
   row(k.reach_minutes, 'one-to-all ≤ 30 ms', 30);
   if (r.interchange) {
     const x = r.interchange;
-    lines.push(`| \`interchange\` one station, 07:00–09:00, each of ${x.stations} stations (rows serialised to JS); busiest ${x.busiest.station}, ${x.busiest.rows} rows: ${fmtMs(x.busiest.ms)} ms; all stations at once ${(x.all_ms / 1000).toFixed(2)} s | ${fmtMs(x.median)} ms | ${fmtMs(x.p95)} ms | | one station ≤ 200 ms (the busiest) | ${x.busiest.ms <= 200 ? 'met' : 'missed'} |`);
+    lines.push(`| \`interchange\` one station, 07:00–09:00, each of ${x.stations} stations (summaries to JS, rows kept in the engine); busiest ${x.busiest.station}, ${x.busiest.rows} rows: ${fmtMs(x.busiest.ms)} ms; all stations at once ${(x.all_ms / 1000).toFixed(2)} s | ${fmtMs(x.median)} ms | ${fmtMs(x.p95)} ms | | one station ≤ 200 ms (the busiest) | ${x.busiest.ms <= 200 ? 'met' : 'missed'} |`);
   }
   lines.push('');
   lines.push('| zip → routable | figure | target | |');
