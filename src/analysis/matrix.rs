@@ -28,22 +28,41 @@ pub fn run<E: Send>(
     cancel: &AtomicBool,
     mut sink: impl FnMut(usize, usize, &Rows) -> Result<(), E>,
 ) -> Result<Ended, E> {
-    let threads = threads.clamp(1, origins.len().max(1));
+    let work = |st: &mut SearchState, times: &mut TravelTimes, i: usize| {
+        let mut rows = Rows::default();
+        run.origin_rows(st, origins[i], dest, times, &mut rows);
+        rows
+    };
+    run_each(origins.len(), threads, cancel, work, |i, rows| sink(i, origins[i], &rows))
+}
+
+/// Runs `work(state, buffer, i)` for `i` in `0..n` on `threads` threads (each with its own search
+/// state and buffer) and hands the results to `sink(i, result)` in order of `i`, with at most
+/// 4 × threads results waiting. Stops early, without calling `sink` again, when `cancel` is set
+/// or `sink` fails.
+pub fn run_each<T: Send, E: Send>(
+    n: usize,
+    threads: usize,
+    cancel: &AtomicBool,
+    work: impl Fn(&mut SearchState, &mut TravelTimes, usize) -> T + Sync,
+    mut sink: impl FnMut(usize, T) -> Result<(), E>,
+) -> Result<Ended, E> {
+    let threads = threads.clamp(1, n.max(1));
     let ahead = 4 * threads;
     let next = AtomicUsize::new(0);
-    // The index of the next origin to hand on; threads wait while they are too far ahead of it.
+    // The index of the next result to hand on; threads wait while they are too far ahead of it.
     let written = (Mutex::new(0usize), Condvar::new());
-    let (tx, rx) = mpsc::channel::<(usize, Rows)>();
+    let (tx, rx) = mpsc::channel::<(usize, T)>();
     std::thread::scope(|scope| {
         for _ in 0..threads {
             let tx = tx.clone();
-            let (next, written) = (&next, &written);
+            let (next, written, work) = (&next, &written, &work);
             scope.spawn(move || {
                 let mut st = SearchState::new();
                 let mut times = TravelTimes::default();
                 loop {
                     let i = next.fetch_add(1, Ordering::Relaxed);
-                    if i >= origins.len() || cancel.load(Ordering::Relaxed) {
+                    if i >= n || cancel.load(Ordering::Relaxed) {
                         return;
                     }
                     {
@@ -53,30 +72,29 @@ pub fn run<E: Send>(
                             w = written.1.wait_timeout(w, std::time::Duration::from_millis(50)).unwrap_or_else(|e| e.into_inner()).0;
                         }
                     }
-                    let mut rows = Rows::default();
-                    run.origin_rows(&mut st, origins[i], dest, &mut times, &mut rows);
-                    if tx.send((i, rows)).is_err() {
+                    let out = work(&mut st, &mut times, i);
+                    if tx.send((i, out)).is_err() {
                         return;
                     }
                 }
             });
         }
         drop(tx);
-        let mut pending: BTreeMap<usize, Rows> = BTreeMap::new();
+        let mut pending: BTreeMap<usize, T> = BTreeMap::new();
         let mut turn = 0;
         let stop = |turn: usize| {
             cancel.store(true, Ordering::Relaxed);
             *written.0.lock().unwrap_or_else(|e| e.into_inner()) = turn;
             written.1.notify_all();
         };
-        for (i, rows) in rx.iter() {
-            pending.insert(i, rows);
-            while let Some(rows) = pending.remove(&turn) {
+        for (i, out) in rx.iter() {
+            pending.insert(i, out);
+            while let Some(out) = pending.remove(&turn) {
                 if cancel.load(Ordering::Relaxed) {
                     stop(turn);
                     return Ok(Ended::Cancelled);
                 }
-                if let Err(e) = sink(turn, origins[turn], &rows) {
+                if let Err(e) = sink(turn, out) {
                     stop(turn);
                     return Err(e);
                 }
@@ -85,6 +103,6 @@ pub fn run<E: Send>(
                 written.1.notify_all();
             }
         }
-        Ok(if turn == origins.len() { Ended::Done } else { Ended::Cancelled })
+        Ok(if turn == n { Ended::Done } else { Ended::Cancelled })
     })
 }

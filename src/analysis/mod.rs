@@ -8,4 +8,5 @@ pub mod interchange;
 #[cfg(not(target_arch = "wasm32"))]
 pub mod matrix;
 pub mod places;
+pub mod stepfree;
 pub mod window;

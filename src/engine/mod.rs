@@ -4,6 +4,7 @@
 //! matrices) are in [`window`].
 
 pub mod interchange;
+pub mod stepfree;
 pub mod window;
 
 use chrono::NaiveDate;

@@ -158,7 +158,8 @@ impl Network {
                 }
                 let first = net.events.len() as u32;
                 net.instances.push(Instance { trip: TripIdx(ti as u32), offset_s: off as i32, first, skip: skip as u32 });
-                let stops_access = |e: usize| tt.stops[tt.ev_stop[e].idx()].wheelchair;
+                let stops_access = |e: usize| tt.stop_access(tt.ev_stop[e]);
+                let trip_access = tt.trip_access(TripIdx(ti as u32));
                 for e in ev.start + skip..ev.end {
                     let dep = (tt.ev_dep[e] as i64 + off) as u32;
                     let arr = (tt.ev_arr[e] as i64 + off).max(0) as u32;
@@ -167,7 +168,7 @@ impl Network {
                     if e + 1 == ev.end {
                         f |= LAST_OF_TRIP;
                     }
-                    f |= step_free_bits(trip.wheelchair, stops_access(e));
+                    f |= step_free_bits(trip_access, stops_access(e));
                     if !tt.specific_rules.is_empty()
                         && tt.rules_at(tt.ev_stop[e]).iter().any(|r| r.from.matches(tt, TripIdx(ti as u32)).is_some())
                     {

@@ -13,7 +13,7 @@ use crate::route::search::{decode, Node};
 use crate::route::{Endpoints, Journey, Params};
 use crate::timetable::calendar::seconds_to_clock;
 use crate::timetable::walking::{pathway_access, PathwayFinding};
-use crate::timetable::{Access, Footpath, StopIdx, StopKind, Timetable, WalkConfig};
+use crate::timetable::{Access, Footpath, Override, StopIdx, StopKind, Timetable, WalkConfig};
 
 /// A stop as a journey names it.
 #[derive(Debug, Clone, Serialize, PartialEq)]
@@ -72,11 +72,24 @@ pub enum StopRole {
 #[derive(Debug, Clone, Serialize, PartialEq)]
 #[serde(tag = "element", rename_all = "snake_case")]
 pub enum Fact {
-    /// The trip's `wheelchair_accessible`.
-    Trip { trip_id: String, wheelchair_accessible: Access },
+    /// The trip's `wheelchair_accessible`; `overridden` when the user set its route's.
+    Trip {
+        trip_id: String,
+        wheelchair_accessible: Access,
+        #[serde(skip_serializing_if = "Option::is_none")]
+        overridden: Option<Override>,
+    },
     /// A stop's `wheelchair_boarding`, after inheritance from its parent station
-    /// (`inherited_from`: that station's name).
-    Stop { role: StopRole, stop_id: String, name: String, wheelchair_boarding: Access, inherited_from: Option<String> },
+    /// (`inherited_from`: that station's name); `overridden` when the user set it (or its station's).
+    Stop {
+        role: StopRole,
+        stop_id: String,
+        name: String,
+        wheelchair_boarding: Access,
+        inherited_from: Option<String>,
+        #[serde(skip_serializing_if = "Option::is_none")]
+        overridden: Option<Override>,
+    },
     /// One pathway, with what its fields show.
     Pathway {
         pathway_id: String,
@@ -199,8 +212,15 @@ impl Builder<'_> {
         let st = self.tt.stop(s);
         let inherited_from = if st.wheelchair_inherited { self.tt.station_name(s).map(str::to_string) } else { None };
         (
-            st.wheelchair,
-            Fact::Stop { role, stop_id: st.id.clone(), name: st.name.clone(), wheelchair_boarding: st.wheelchair, inherited_from },
+            self.tt.stop_access(s),
+            Fact::Stop {
+                role,
+                stop_id: st.id.clone(),
+                name: st.name.clone(),
+                wheelchair_boarding: st.wheelchair,
+                inherited_from,
+                overridden: self.tt.stop_override(s),
+            },
         )
     }
 
@@ -268,7 +288,10 @@ impl Builder<'_> {
         let route = &tt.routes[trip.route.idx()];
         let (from, to) = (net.stop(board as usize), net.stop(alight));
         let mut status = StepFreeEvidence::new();
-        status.add(trip.wheelchair, Fact::Trip { trip_id: trip.id.clone(), wheelchair_accessible: trip.wheelchair });
+        status.add(
+            self.tt.trip_access(inst.trip),
+            Fact::Trip { trip_id: trip.id.clone(), wheelchair_accessible: trip.wheelchair, overridden: self.tt.trip_override(inst.trip) },
+        );
         for (s, role) in [(from, StopRole::Boarding), (to, StopRole::Alighting)] {
             let (a, fact) = self.stop_check(s, role);
             status.add(a, fact);

@@ -274,6 +274,9 @@ pub struct Timetable {
     pub walk_standard: FootpathSet,
     pub walk_step_free: FootpathSet,
     pub walk_step_free_strict: FootpathSet,
+    /// Accessibility the user sets over the feed's (outages, or what-if-fixed); cleared when a
+    /// feed is added or removed, since indices move.
+    pub overrides: Overrides,
 }
 
 /// One side of a trip- or route-specific transfer rule.
@@ -357,7 +360,64 @@ impl PathwayMode {
     }
 }
 
+/// An element's accessibility as the user sets it, over the feed's.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Override {
+    /// Out of service (a lift or ramp out of order, a stop or route not step-free today).
+    OutOfService,
+    /// Taken as step-free: what fixing it would change.
+    AssumedAccessible,
+}
+
+impl Override {
+    pub fn access(self) -> Access {
+        match self {
+            Override::OutOfService => Access::No,
+            Override::AssumedAccessible => Access::Yes,
+        }
+    }
+}
+
+/// Overrides by element. A stop's applies to the stops of a station it names, a route's to its trips.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Overrides {
+    pub stops: std::collections::HashMap<StopIdx, Override>,
+    pub pathways: std::collections::HashMap<PathwayIdx, Override>,
+    pub routes: std::collections::HashMap<RouteIdx, Override>,
+}
+
+impl Overrides {
+    pub fn is_empty(&self) -> bool {
+        self.stops.is_empty() && self.pathways.is_empty() && self.routes.is_empty()
+    }
+}
+
 impl Timetable {
+    /// The override on stop `s` (or on its station), if any.
+    pub fn stop_override(&self, s: StopIdx) -> Option<Override> {
+        if self.overrides.stops.is_empty() {
+            return None;
+        }
+        let st = self.stop(s);
+        self.overrides.stops.get(&s).or_else(|| st.parent.and_then(|p| self.overrides.stops.get(&p))).copied()
+    }
+    /// `wheelchair_boarding` after inheritance and overrides.
+    pub fn stop_access(&self, s: StopIdx) -> Access {
+        self.stop_override(s).map_or(self.stop(s).wheelchair, Override::access)
+    }
+    /// The override on trip `t`'s route, if any.
+    pub fn trip_override(&self, t: TripIdx) -> Option<Override> {
+        if self.overrides.routes.is_empty() {
+            return None;
+        }
+        self.overrides.routes.get(&self.trips[t.idx()].route).copied()
+    }
+    /// `wheelchair_accessible` after overrides.
+    pub fn trip_access(&self, t: TripIdx) -> Access {
+        self.trip_override(t).map_or(self.trips[t.idx()].wheelchair, Override::access)
+    }
+
     pub fn stop(&self, s: StopIdx) -> &Stop {
         &self.stops[s.idx()]
     }

@@ -187,10 +187,19 @@ pub enum PathwayFinding {
     TooSteep { max_slope: f32, limit: f32 },
     /// `min_width` narrower than the limit (m).
     TooNarrow { min_width_m: f32, limit_m: f32 },
+    /// Set out of service by the user (an outage).
+    OutOfService,
+    /// Taken as step-free by the user (what fixing it would change).
+    AssumedStepFree,
 }
 
 /// Accessibility of one pathway for a wheelchair user, with what it was judged on.
 pub fn pathway_access(tt: &Timetable, p: PathwayIdx, cfg: &WalkConfig) -> (Access, PathwayFinding) {
+    match tt.overrides.pathways.get(&p) {
+        Some(super::Override::OutOfService) => return (Access::No, PathwayFinding::OutOfService),
+        Some(super::Override::AssumedAccessible) => return (Access::Yes, PathwayFinding::AssumedStepFree),
+        None => {}
+    }
     let pw = &tt.pathways[p.idx()];
     match pw.mode {
         PathwayMode::Stairs => return (Access::No, PathwayFinding::Stairs),
@@ -306,7 +315,7 @@ pub fn rebuild(tt: &mut Timetable, cfg: &WalkConfig) {
 fn entrance_access(tt: &Timetable, s: u32) -> Access {
     let st = &tt.stops[s as usize];
     match st.kind {
-        StopKind::Entrance => st.wheelchair,
+        StopKind::Entrance => tt.stop_access(StopIdx(s)),
         // A street stop: the street itself is not described by the feed; assumed step-free.
         _ => Access::Yes,
     }

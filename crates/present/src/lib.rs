@@ -37,15 +37,33 @@ fn role_word(r: StopRole) -> &'static str {
     }
 }
 
+/// What the user set over the feed's value, in words.
+fn override_words(o: Option<timeweave::timetable::Override>, what: &str) -> String {
+    match o {
+        None => String::new(),
+        Some(timeweave::timetable::Override::OutOfService) => format!("; {what} set out of service for this analysis"),
+        Some(timeweave::timetable::Override::AssumedAccessible) => format!("; {what} taken as step-free for this analysis"),
+    }
+}
+
 /// One step-free check in words, naming the element and the feed's value.
 pub fn check_text(c: &Check) -> String {
     match &c.fact {
-        Fact::Trip { trip_id, wheelchair_accessible } => {
-            format!("trip {trip_id}: wheelchair_accessible {}", access_words(*wheelchair_accessible))
+        Fact::Trip { trip_id, wheelchair_accessible, overridden } => {
+            format!(
+                "trip {trip_id}: wheelchair_accessible {}{}",
+                access_words(*wheelchair_accessible),
+                override_words(*overridden, "its route")
+            )
         }
-        Fact::Stop { role, stop_id, name, wheelchair_boarding, inherited_from } => {
+        Fact::Stop { role, stop_id, name, wheelchair_boarding, inherited_from, overridden } => {
             let how = inherited_from.as_ref().map(|s| format!(" (inherited from station {s})")).unwrap_or_default();
-            format!("{} stop {name} ({stop_id}): wheelchair_boarding {}{how}", role_word(*role), access_words(*wheelchair_boarding))
+            format!(
+                "{} stop {name} ({stop_id}): wheelchair_boarding {}{how}{}",
+                role_word(*role),
+                access_words(*wheelchair_boarding),
+                override_words(*overridden, "it")
+            )
         }
         Fact::Pathway { pathway_id, pathway_mode, finding } => {
             let what = match finding {
@@ -55,6 +73,8 @@ pub fn check_text(c: &Check) -> String {
                 PathwayFinding::StairCount { stair_count } => format!("stair_count {stair_count}"),
                 PathwayFinding::TooSteep { max_slope, limit } => format!("max_slope {max_slope} is steeper than {limit}"),
                 PathwayFinding::TooNarrow { min_width_m, limit_m } => format!("min_width {min_width_m} m is narrower than {limit_m} m"),
+                PathwayFinding::OutOfService => "out of service (set for this analysis)".to_string(),
+                PathwayFinding::AssumedStepFree => "taken as step-free (set for this analysis)".to_string(),
             };
             format!("pathway {pathway_id} ({pathway_mode}): {what}")
         }
