@@ -157,3 +157,57 @@ fn unknown_outages_are_refused_with_suggestions_before_any_work() {
     let bad = StepFreeQuery { pairs: Some("sample:0".into()), outages: vec![], ..q };
     assert!(e.stepfree_with(&bad, 1, &mut |_, _, _| true).expect_err("refused").to_string().contains("sample of 0 pairs"));
 }
+
+/// A FeedMessage (GTFS-Realtime reference, gtfs-realtime.proto) with one alert of `effect` on
+/// stop `stop`, active over `period` (POSIX seconds) when given.
+fn alert_bytes(effect: i32, stop: &str, period: Option<(u64, u64)>) -> Vec<u8> {
+    use prost::Message;
+    use timeweave::feed::alerts::*;
+    let msg = FeedMessage {
+        header: Some(FeedHeader { gtfs_realtime_version: Some("2.0".into()), timestamp: Some(1_781_000_000) }),
+        entity: vec![FeedEntity {
+            id: Some("lift-1".into()),
+            is_deleted: None,
+            alert: Some(Alert {
+                active_period: period.map(|(s, e)| TimeRange { start: Some(s), end: Some(e) }).into_iter().collect(),
+                informed_entity: vec![EntitySelector { agency_id: None, route_id: None, stop_id: Some(stop.into()) }],
+                effect: Some(effect),
+            }),
+        }],
+    };
+    msg.encode_to_vec()
+}
+
+#[test]
+fn an_accessibility_alert_on_the_platform_takes_its_lift_out() {
+    // GTFS-Realtime reference: Alert.effect ACCESSIBILITY_ISSUE = 11, NO_SERVICE = 1; the entity
+    // selector names a stop, not a pathway, so the lift touching the stop is what goes out.
+    let mut e = station("1", "", &format!("{LIFT}{STAIRS}")).load();
+    let (out, skipped) = e.outages_from_alerts(&alert_bytes(11, "P", None), "2026-06-10", "08:00-09:00").expect("alerts");
+    assert_eq!(out, [("pathway:PW_LIFT".to_string(), "alert lift-1".to_string())]);
+    assert!(skipped.is_empty());
+    let q = StepFreeQuery {
+        date: "2026-06-10".into(),
+        window: "08:00-09:00".into(),
+        pair_list: Some(vec![("S".into(), "Q".into())]),
+        outages: out.iter().map(|x| x.0.clone()).collect(),
+        outage_sources: out.iter().map(|x| x.1.clone()).collect(),
+        ..Default::default()
+    };
+    let mut rows = Vec::new();
+    let r = e.stepfree_with(&q, 1, &mut |_, _, c| {
+        rows.extend_from_slice(c);
+        true
+    });
+    let r = r.expect("audit").expect("done");
+    assert_eq!((rows[0].outage_status, r.outages[0].source.as_str()), (Some(OutageEffect::Lost), "alert lift-1"));
+    // Another effect, or an alert over another day, sets nothing out.
+    assert!(e.outages_from_alerts(&alert_bytes(1, "P", None), "2026-06-10", "08:00-09:00").expect("alerts").0.is_empty());
+    // 2026-06-11 00:00 UTC onwards: after the window (UTC+1, so 08:00–09:00 is 07:00–08:00 UTC on the 10th).
+    let later = alert_bytes(11, "P", Some((1_781_136_000, 1_781_222_400)));
+    assert!(e.outages_from_alerts(&later, "2026-06-10", "08:00-09:00").expect("alerts").0.is_empty());
+    assert_eq!(e.outages_from_alerts(&later, "2026-06-11", "08:00-09:00").expect("alerts").0.len(), 1);
+    // Not protobuf at all: refused with the reason.
+    let err = e.outages_from_alerts(b"stop_id,effect\nP,ACCESSIBILITY_ISSUE\n", "2026-06-10", "08:00-09:00").expect_err("refused");
+    assert!(err.to_string().contains("not a GTFS-Realtime FeedMessage"), "{err}");
+}

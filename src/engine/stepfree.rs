@@ -52,6 +52,8 @@ pub struct StepFreeQuery {
     /// Elements out of service: pathway, stop (a station: all its stops; an entrance) or route
     /// ids, plain or as `pathway:ID`, `stop:ID`, `route:ID`.
     pub outages: Vec<String>,
+    /// Where each outage came from (`option`, `alert ID`), in the order of `outages`; missing: `option`.
+    pub outage_sources: Vec<String>,
     /// How many elements, most-blocking first, to rerun as if fixed; default 10, at most 50.
     pub fix_top: Option<u32>,
     /// How many blocked pairs per origin get their blocking elements; default 25.
@@ -277,6 +279,78 @@ impl Engine {
         }
     }
 
+    /// The outages a GTFS-Realtime alerts file gives for `date` and `window` ("HH:MM-HH:MM"):
+    /// each alert with effect `ACCESSIBILITY_ISSUE` active then, its stops mapped to the lift
+    /// (`pathway_mode` 5) and ramp (walkway with a `max_slope`) pathways that touch them or, for a
+    /// station, its stops (the alert's entity selector has no pathway field, so this mapping is
+    /// ours); a stop without such a pathway is set out of service itself, a route as a whole.
+    /// Returns `(kind:id, source)` pairs for [`StepFreeQuery::outages`], and what was skipped.
+    pub fn outages_from_alerts(&self, bytes: &[u8], date: &str, window: &str) -> Result<(Vec<(String, String)>, Vec<String>), QueryError> {
+        let alerts = crate::feed::alerts::accessibility_alerts(bytes).map_err(QueryError::BadOption)?;
+        let date = self.analysis_date(date)?;
+        let span = self.span(date, Some(window))?;
+        let tz = self.tt.feeds.first().ok_or(QueryError::NoFeed)?.timezone;
+        let origin = crate::timetable::calendar::day_origin(tz, date).timestamp();
+        let (from, to) = ((origin + span.start_s as i64).max(0) as u64, (origin + span.end_s as i64).max(0) as u64);
+        let tt = &self.tt;
+        let (mut out, mut skipped) = (Vec::new(), Vec::new());
+        let push = |e: Element, source: &str, out: &mut Vec<(String, String)>| {
+            let key = format!("{}:{}", self.element_kind_prefix(e), self.element_id(e));
+            if !out.iter().any(|(k, _)| *k == key) {
+                out.push((key, source.to_string()));
+            }
+        };
+        for a in alerts.iter().filter(|a| a.active_during(from, to)) {
+            let source = format!("alert {}", a.entity_id);
+            for sid in &a.stop_ids {
+                let stops: Vec<StopIdx> =
+                    tt.stops.iter().enumerate().filter(|(_, s)| s.id == *sid).map(|(i, _)| StopIdx(i as u32)).collect();
+                if stops.is_empty() {
+                    skipped.push(format!("{source}: no stop {sid:?} in the loaded feeds"));
+                    continue;
+                }
+                for s in stops {
+                    // The stop, and the stops of its station when it is one.
+                    let touched: Vec<StopIdx> = if tt.stop(s).kind == StopKind::Station {
+                        (0..tt.stops.len() as u32).map(StopIdx).filter(|&c| c == s || tt.stop(c).parent == Some(s)).collect()
+                    } else {
+                        vec![s]
+                    };
+                    let lifts: Vec<PathwayIdx> = tt
+                        .pathways
+                        .iter()
+                        .enumerate()
+                        .filter(|(_, p)| {
+                            let ramp = p.mode == crate::timetable::PathwayMode::Walkway && p.max_slope.is_some_and(|m| m != 0.0);
+                            (p.mode == crate::timetable::PathwayMode::Elevator || ramp)
+                                && (touched.contains(&p.from) || touched.contains(&p.to))
+                        })
+                        .map(|(i, _)| PathwayIdx(i as u32))
+                        .collect();
+                    if lifts.is_empty() {
+                        push(Element::Stop(s), &source, &mut out);
+                    }
+                    for p in lifts {
+                        push(Element::Pathway(p), &source, &mut out);
+                    }
+                }
+            }
+            for rid in &a.route_ids {
+                let routes: Vec<usize> = tt.routes.iter().enumerate().filter(|(_, r)| r.id == *rid).map(|(i, _)| i).collect();
+                if routes.is_empty() {
+                    skipped.push(format!("{source}: no route {rid:?} in the loaded feeds"));
+                }
+                for r in routes {
+                    push(Element::Route(RouteIdx(r as u32)), &source, &mut out);
+                }
+            }
+            if a.stop_ids.is_empty() && a.route_ids.is_empty() {
+                skipped.push(format!("{source}: informs no stop or route (agencies and trips are not read)"));
+            }
+        }
+        Ok((out, skipped))
+    }
+
     fn element_kind_prefix(&self, e: Element) -> &'static str {
         match e {
             Element::Stop(_) => "stop",
@@ -473,11 +547,12 @@ impl Engine {
             caution: CAUTION,
             outages: outages
                 .iter()
-                .map(|&e| OutageRow {
+                .enumerate()
+                .map(|(k, &e)| OutageRow {
                     element_kind: self.element_kind(e),
                     element_id: self.element_id(e).to_string(),
                     name: self.element_name(e),
-                    source: "option".into(),
+                    source: q.outage_sources.get(k).cloned().unwrap_or_else(|| "option".into()),
                 })
                 .collect(),
             ..Default::default()

@@ -7,6 +7,7 @@
 //! strings per row) and built trip by trip as the rows come; only a file whose trips' rows are
 //! not together is read a second time into a buffer of all rows (`stop_times.rs`).
 
+pub mod alerts;
 pub mod files;
 mod stop_times;
 pub mod table;
