@@ -183,7 +183,8 @@ fn an_accessibility_alert_on_the_platform_takes_its_lift_out() {
     // GTFS-Realtime reference: Alert.effect ACCESSIBILITY_ISSUE = 11, NO_SERVICE = 1; the entity
     // selector names a stop, not a pathway, so the lift touching the stop is what goes out.
     let mut e = station("1", "", &format!("{LIFT}{STAIRS}")).load();
-    let (out, skipped) = e.outages_from_alerts(&alert_bytes(11, "P", None), "2026-06-10", "08:00-09:00").expect("alerts");
+    let a = e.outages_from_alerts(&alert_bytes(11, "P", None), "2026-06-10", "08:00-09:00").expect("alerts");
+    let (out, skipped) = (a.outages, a.skipped);
     assert_eq!(out, [("pathway:PW_LIFT".to_string(), "alert lift-1".to_string())]);
     assert!(skipped.is_empty());
     let q = StepFreeQuery {
@@ -202,11 +203,11 @@ fn an_accessibility_alert_on_the_platform_takes_its_lift_out() {
     let r = r.expect("audit").expect("done");
     assert_eq!((rows[0].outage_status, r.outages[0].source.as_str()), (Some(OutageEffect::Lost), "alert lift-1"));
     // Another effect, or an alert over another day, sets nothing out.
-    assert!(e.outages_from_alerts(&alert_bytes(1, "P", None), "2026-06-10", "08:00-09:00").expect("alerts").0.is_empty());
+    assert!(e.outages_from_alerts(&alert_bytes(1, "P", None), "2026-06-10", "08:00-09:00").expect("alerts").outages.is_empty());
     // 2026-06-11 00:00 UTC onwards: after the window (UTC+1, so 08:00–09:00 is 07:00–08:00 UTC on the 10th).
     let later = alert_bytes(11, "P", Some((1_781_136_000, 1_781_222_400)));
-    assert!(e.outages_from_alerts(&later, "2026-06-10", "08:00-09:00").expect("alerts").0.is_empty());
-    assert_eq!(e.outages_from_alerts(&later, "2026-06-11", "08:00-09:00").expect("alerts").0.len(), 1);
+    assert!(e.outages_from_alerts(&later, "2026-06-10", "08:00-09:00").expect("alerts").outages.is_empty());
+    assert_eq!(e.outages_from_alerts(&later, "2026-06-11", "08:00-09:00").expect("alerts").outages.len(), 1);
     // Not protobuf at all: refused with the reason.
     let err = e.outages_from_alerts(b"stop_id,effect\nP,ACCESSIBILITY_ISSUE\n", "2026-06-10", "08:00-09:00").expect_err("refused");
     assert!(err.to_string().contains("not a GTFS-Realtime FeedMessage"), "{err}");

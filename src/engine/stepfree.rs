@@ -160,6 +160,15 @@ pub struct StepFreeReport {
     pub caution: &'static str,
 }
 
+/// What an alerts file sets out of service.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct AlertOutages {
+    /// `(kind:id, source)`, for [`StepFreeQuery::outages`] and [`StepFreeQuery::outage_sources`].
+    pub outages: Vec<(String, String)>,
+    /// What an alert named that the feeds do not hold, or did not say.
+    pub skipped: Vec<String>,
+}
+
 /// The pairs to audit, grouped by origin place, each with its destination places.
 type ByOrigin = Vec<(usize, Vec<u32>)>;
 
@@ -284,8 +293,7 @@ impl Engine {
     /// (`pathway_mode` 5) and ramp (walkway with a `max_slope`) pathways that touch them or, for a
     /// station, its stops (the alert's entity selector has no pathway field, so this mapping is
     /// ours); a stop without such a pathway is set out of service itself, a route as a whole.
-    /// Returns `(kind:id, source)` pairs for [`StepFreeQuery::outages`], and what was skipped.
-    pub fn outages_from_alerts(&self, bytes: &[u8], date: &str, window: &str) -> Result<(Vec<(String, String)>, Vec<String>), QueryError> {
+    pub fn outages_from_alerts(&self, bytes: &[u8], date: &str, window: &str) -> Result<AlertOutages, QueryError> {
         let alerts = crate::feed::alerts::accessibility_alerts(bytes).map_err(QueryError::BadOption)?;
         let date = self.analysis_date(date)?;
         let span = self.span(date, Some(window))?;
@@ -348,7 +356,7 @@ impl Engine {
                 skipped.push(format!("{source}: informs no stop or route (agencies and trips are not read)"));
             }
         }
-        Ok((out, skipped))
+        Ok(AlertOutages { outages: out, skipped })
     }
 
     fn element_kind_prefix(&self, e: Element) -> &'static str {
