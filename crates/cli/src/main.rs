@@ -8,6 +8,7 @@ use timeweave::engine::{Engine, PlanQuery};
 use timeweave::route::StepFree;
 
 mod interchange;
+mod stepfree;
 mod window;
 
 #[derive(Parser)]
@@ -208,6 +209,62 @@ enum Command {
         #[arg(long, value_name = "FILE.csv")]
         out: PathBuf,
     },
+    /// The step-free audit: for pairs of places over a window, standard against step-free travel
+    /// times, the pairs only the standard profile reaches and the elements that block them, the
+    /// elements ranked by what fixing each would open, outages (elements out of service, or a
+    /// GTFS-Realtime alerts file) and the pairs they cost, and the completeness of the feed's
+    /// accessibility data. Writes a folder of CSV files and about.txt.
+    #[command(after_help = stepfree::DEFINITIONS)]
+    Stepfree {
+        #[command(flatten)]
+        feeds: Feeds,
+        /// Service date, YYYY-MM-DD.
+        #[arg(long)]
+        date: String,
+        /// Departures in this window, local HH:MM-HH:MM (the end not sampled).
+        #[arg(long, value_name = "HH:MM-HH:MM")]
+        window: String,
+        /// Minutes between sampled departures [default: 1].
+        #[arg(long, value_name = "MIN")]
+        step: Option<u32>,
+        /// all (every pair of places), sample:N (N pairs drawn with --seed) or a CSV file with
+        /// from_stop_id,to_stop_id (a station counts any of its stops).
+        #[arg(long, default_value = "all", value_name = "all|sample:N|FILE")]
+        pairs: String,
+        /// Seed of the sample and of the choice of blocked pairs to explain [default: 1].
+        #[arg(long)]
+        seed: Option<u64>,
+        /// Unknown accessibility (0 or empty) counts as step-free [default: strict, only 1 does].
+        #[arg(long)]
+        lenient: bool,
+        /// An element out of service: pathway, stop, entrance, station or route id (plain, or
+        /// pathway:ID, stop:ID, route:ID); repeat for several.
+        #[arg(long, value_name = "ID")]
+        outage: Vec<String>,
+        /// A file of outage ids, one per line (# starts a comment).
+        #[arg(long, value_name = "FILE")]
+        outages: Option<PathBuf>,
+        /// A GTFS-Realtime alerts file (protobuf FeedMessage): alerts with effect
+        /// ACCESSIBILITY_ISSUE active in the window set the lifts and ramps of their stops (or the
+        /// stop, or the route) out of service.
+        #[arg(long, value_name = "FILE.pb")]
+        alerts: Option<PathBuf>,
+        /// Rolling or walking speed of the step-free profile, m/s [default: 0.8].
+        #[arg(long, value_name = "MPS")]
+        step_free_speed: Option<f64>,
+        /// Elements, most-blocking first, rerun as if fixed [default: 10, at most 50].
+        #[arg(long, value_name = "K")]
+        fix_top: Option<u32>,
+        /// Blocked pairs per origin whose blocking elements are found [default: 25].
+        #[arg(long, value_name = "N")]
+        explain: Option<u32>,
+        /// Threads [default: all cores].
+        #[arg(long, value_name = "N")]
+        threads: Option<usize>,
+        /// Output folder (created if missing); its files are written whole or not at all.
+        #[arg(long, value_name = "DIR")]
+        out: PathBuf,
+    },
     /// Load feeds and print what was read, with every warning (file, line, field).
     Check {
         #[command(flatten)]
@@ -387,6 +444,42 @@ fn run(cli: Cli) -> Result<(), String> {
             let q =
                 timeweave::engine::interchange::InterchangeQuery { station, date, window, horizon_min: horizon, near_miss_min: near_miss };
             interchange::run(&mut engine, &q, &out)
+        }
+        Command::Stepfree {
+            feeds,
+            date,
+            window,
+            step,
+            pairs,
+            seed,
+            lenient,
+            outage,
+            outages,
+            alerts,
+            step_free_speed,
+            fix_top,
+            explain,
+            threads,
+            out,
+        } => {
+            let mut engine = load(&feeds.feeds, false)?;
+            let a = stepfree::Args {
+                date,
+                window,
+                step,
+                pairs: &pairs,
+                seed,
+                lenient,
+                outage: &outage,
+                outages: outages.as_deref(),
+                alerts: alerts.as_deref(),
+                step_free_speed,
+                fix_top,
+                explain,
+                threads,
+                out: &out,
+            };
+            stepfree::run(&mut engine, a)
         }
         Command::Check { feeds, json: as_json } => {
             let engine = load(&feeds.feeds, true)?;

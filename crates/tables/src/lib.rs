@@ -345,3 +345,65 @@ pub fn rows_csv<W: Write, T: serde::Serialize>(out: W, rows: &[T]) -> Result<W, 
     }
     w.into_inner().map_err(|e| TableError::Io(e.into_error()))
 }
+
+/// The step-free audit's pairs as CSV, written an origin at a time: `blocking` (and
+/// `outage_blocking`) list elements as `kind:id` separated by `;`; the outage columns only when
+/// outages were set; empty cells where a value does not apply.
+pub struct StepFreePairTable<W: Write> {
+    w: csv::Writer<W>,
+    outages: bool,
+    pub rows: u64,
+}
+
+impl<W: Write> StepFreePairTable<W> {
+    pub fn new(out: W, outages: bool) -> Result<Self, TableError> {
+        let mut w = csv::Writer::from_writer(out);
+        let mut head = vec!["from_stop_id", "to_stop_id", "standard_p50_s", "stepfree_p50_s", "extra_p50_s", "status", "blocking"];
+        if outages {
+            head.extend(["outage_stepfree_p50_s", "outage_status", "outage_blocking"]);
+        }
+        head.extend(["standard_departures_with_journey", "stepfree_departures_with_journey"]);
+        w.write_record(&head)?;
+        Ok(StepFreePairTable { w, outages, rows: 0 })
+    }
+
+    pub fn add(&mut self, rows: &[timeweave::engine::stepfree::StepFreePairRow]) -> Result<(), TableError> {
+        use timeweave::analysis::stepfree::PairStatus;
+        use timeweave::engine::stepfree::OutageEffect;
+        let secs = |x: Option<f64>| x.map(|v| format!("{}", (v * 1000.0).round() / 1000.0)).unwrap_or_default();
+        for r in rows {
+            let status = match r.status {
+                PairStatus::StepFree => "step_free",
+                PairStatus::Blocked => "blocked",
+                PairStatus::NoJourney => "no_journey",
+            };
+            let mut rec = vec![
+                r.from_stop_id.clone(),
+                r.to_stop_id.clone(),
+                secs(r.standard_p50_s),
+                secs(r.stepfree_p50_s),
+                secs(r.extra_p50_s),
+                status.to_string(),
+                r.blocking.join(";"),
+            ];
+            if self.outages {
+                let effect = match r.outage_status {
+                    Some(OutageEffect::Lost) => "lost",
+                    Some(OutageEffect::Slower) => "slower",
+                    Some(OutageEffect::Unchanged) => "unchanged",
+                    Some(OutageEffect::NotStepFree) => "not_step_free",
+                    None => "",
+                };
+                rec.extend([secs(r.outage_stepfree_p50_s), effect.to_string(), r.outage_blocking.join(";")]);
+            }
+            rec.extend([r.standard_reached.to_string(), r.stepfree_reached.to_string()]);
+            self.w.write_record(&rec)?;
+        }
+        self.rows += rows.len() as u64;
+        Ok(())
+    }
+
+    pub fn finish(self) -> Result<W, TableError> {
+        self.w.into_inner().map_err(|e| TableError::Io(e.into_error()))
+    }
+}
