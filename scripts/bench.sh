@@ -2,7 +2,8 @@
 # Benchmarks (issue 4): the native search on generated metro and region feeds, side by side with
 # petgraph's dijkstra and a plain Connection Scan (cargo bench --bench queries), the window analyses
 # (cargo bench --bench window: profile vs 120 sweeps, the region matrix), the interchange audit
-# (cargo bench --bench interchange: metro all stations all day, against the first version), then the WASM build
+# (cargo bench --bench interchange: metro all stations all day, against the first version), the
+# step-free audit (cargo bench --bench stepfree: region every pair, against both profiles alone), then the WASM build
 # in headless Chromium on the metro feed (tests/browser/bench/bench.mjs). Prints both Markdown
 # tables and the machine they ran on. Takes several minutes; the feeds are generated into
 # bench-out/ on first use.
@@ -37,6 +38,7 @@ mkdir -p bench-out
 cargo bench -j "${CARGO_JOBS:-1}" --bench queries 2>&1 | tee bench-out/native.log
 cargo bench -j "${CARGO_JOBS:-1}" --bench window 2>&1 | tee bench-out/window.log
 cargo bench -j "${CARGO_JOBS:-1}" --bench interchange 2>&1 | tee bench-out/interchange.log
+cargo bench -j "${CARGO_JOBS:-1}" --bench stepfree 2>&1 | tee bench-out/stepfree.log
 
 node tests/browser/bench/bench.mjs 2>&1 | tee bench-out/browser.log
 
@@ -51,6 +53,8 @@ node tests/browser/bench/bench.mjs 2>&1 | tee bench-out/browser.log
   cat bench-out/window.md
   echo
   cat bench-out/interchange.md
+  echo
+  cat bench-out/stepfree.md
   echo
   cat bench-out/browser.md
 } | tee bench-out/report.md

@@ -966,6 +966,11 @@ const views = {
     panel: $('view-interchange'),
     load: async () => (await import('./views/interchange.js')).initInterchangeView({ client, getSketch: () => state.sketch, say }),
   },
+  stepfree: {
+    tab: $('tab-stepfree'),
+    panel: $('view-stepfree'),
+    load: async () => (await import('./views/stepfree.js')).initStepFreeView({ client, getSketch: () => state.sketch, say }),
+  },
 };
 
 async function showView(name, focus) {

@@ -134,6 +134,11 @@ export class EngineClient {
   interchangePair(p) { return this.#call('interchange_pair', { arr_route_id: p.arr_route_id, arr_direction: p.arr_direction, dep_route_id: p.dep_route_id, dep_direction: p.dep_direction }); }
   /** One table of the audit as CSV bytes: 'rows', 'pairs' or 'stations'. */
   interchangeCsv(query, table) { return this.#call('interchange_csv', { query, table }); }
+  /** The step-free audit (StepFreeQuery fields; `alerts`: bytes of a GTFS-Realtime file or null). */
+  stepfree(query, alerts, onProgress) { return this.#call('stepfree', { query, alerts }, onProgress); }
+  /** One file of the last step-free audit as CSV bytes: 'pairs', 'elements', 'completeness' or 'outages'. */
+  stepfreeCsv(table) { return this.#call('stepfree_csv', { table }); }
+  accessibilityElements() { return this.#call('accessibility_elements', {}); }
   connectionJourney(date, arrEvent, depEvent) { return this.#call('connection_journey', { date, arr_event: arrEvent, dep_event: depEvent }); }
 
   /** A second engine in its own worker with the same feeds (for work spread over cores). */

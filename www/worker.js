@@ -6,9 +6,10 @@
 //                                               | reach_window | pair_profile | places | matrix_setup | matrix_origin
 //                                               | table_begin | table_add | table_finish
 //                                               | interchange | interchange_pair | interchange_csv | connection_journey
+//                                               | stepfree | stepfree_csv | accessibility_elements
 //   worker → page  { type: 'ready' }           once the WASM module is instantiated
 //                  { type: 'init-failed', error }
-//                  { type: 'progress', id, stage, fraction }   during `load` and `interchange`
+//                  { type: 'progress', id, stage, fraction }   during `load`, `interchange` and `stepfree`
 //                  { type: 'result', id, ok: true, value }
 //                  { type: 'result', id, ok: false, error, fatal }
 // `error` is a plain object: a FeedIssue { file, line, field, value, message } when the engine
@@ -104,6 +105,21 @@ function run(op, args, id) {
       return engine.interchange_pair(args.arr_route_id, args.arr_direction, args.dep_route_id, args.dep_direction);
     case 'interchange_csv':
       return engine.interchange_csv(args.query, args.table);
+    case 'stepfree': {
+      let lastPost = 0;
+      const progress = (done, total) => {
+        const now = performance.now();
+        if (done < total && now - lastPost < 50) return;
+        lastPost = now;
+        self.postMessage({ type: 'progress', id, stage: `${done} of ${total} origins`, fraction: total ? done / total : 0 });
+      };
+      const alerts = args.alerts ? new Uint8Array(args.alerts) : undefined;
+      return engine.stepfree(args.query, alerts, progress);
+    }
+    case 'stepfree_csv':
+      return engine.stepfree_csv(args.table);
+    case 'accessibility_elements':
+      return engine.accessibility_elements();
     case 'connection_journey':
       return engine.connection_journey(args.date, args.arr_event, args.dep_event);
     default:

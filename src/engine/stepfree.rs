@@ -23,7 +23,10 @@ use crate::timetable::{Access, FeedIdx, Override, Overrides, PathwayIdx, RouteId
 
 /// Blocked pairs explained per origin when none is given: the elements of a blocked pair come
 /// from a journey search of its own, so this bounds the work on large pair sets.
-pub const DEFAULT_EXPLAIN_PER_ORIGIN: u32 = 25;
+pub const DEFAULT_EXPLAIN_PER_ORIGIN: u32 = 10;
+/// Origins rerun per element tried as fixed when none is given (a seeded sample of the origins
+/// concerned, the count scaled up; 0: all).
+pub const DEFAULT_FIX_ORIGINS: u32 = 200;
 /// Elements whose fixing is tried (a rerun each) when none is given.
 pub const DEFAULT_FIX_TOP: u32 = 10;
 /// The caution every page, report and file of accessibility results carries.
@@ -56,7 +59,10 @@ pub struct StepFreeQuery {
     pub outage_sources: Vec<String>,
     /// How many elements, most-blocking first, to rerun as if fixed; default 10, at most 50.
     pub fix_top: Option<u32>,
-    /// How many blocked pairs per origin get their blocking elements; default 25.
+    /// At most this many origins rerun per element tried as fixed (a seeded sample, the count
+    /// scaled to all the origins concerned); default 200, 0: all.
+    pub fix_origins: Option<u32>,
+    /// How many blocked pairs per origin get their blocking elements; default 10.
     pub explain_per_origin: Option<u32>,
 }
 
@@ -115,8 +121,13 @@ pub struct ElementRow {
     /// Explained blocked pairs whose standard journey it fails.
     pub pairs_blocked: u32,
     /// Of the blocked pairs from the origins of those pairs, how many the step-free profile
-    /// reaches with this element alone taken as step-free; empty when not tried.
+    /// reaches with this element alone taken as step-free; empty when not tried. When more
+    /// origins are concerned than rerun, the count over those rerun scaled up (`estimated`).
     pub pairs_unblocked_if_fixed: Option<u32>,
+    /// Origins concerned (their explained pairs fail the element), and of them rerun.
+    pub origins_concerned: u32,
+    pub origins_rerun: u32,
+    pub estimated: bool,
 }
 
 /// An element set out of service.
@@ -158,6 +169,21 @@ pub struct StepFreeReport {
     pub outages: Vec<OutageRow>,
     pub completeness: Vec<Completeness>,
     pub caution: &'static str,
+}
+
+/// An element a page offers for outages.
+#[derive(Debug, Clone, Serialize)]
+pub struct PickableElement {
+    /// `pathway:ID` or `stop:ID`, as [`StepFreeQuery::outages`] takes it.
+    pub id: String,
+    /// `lift`, `ramp`, `station` or `entrance`.
+    pub kind: &'static str,
+    pub name: String,
+    pub station: String,
+    /// Where it is drawn: the stop it starts at.
+    pub stop_id: String,
+    pub lat: f64,
+    pub lon: f64,
 }
 
 /// What an alerts file sets out of service.
@@ -357,6 +383,47 @@ impl Engine {
             }
         }
         Ok(AlertOutages { outages: out, skipped })
+    }
+
+    /// The elements a page offers for outages: lifts (`pathway_mode` 5) and ramps (walkways with
+    /// a `max_slope`), then stations and entrances, each with its station's name and a position.
+    pub fn accessibility_elements(&self) -> Vec<PickableElement> {
+        let tt = &self.tt;
+        let station = |s: StopIdx| tt.station_name(s).unwrap_or(&tt.stop(s).name).to_string();
+        let mut out: Vec<PickableElement> = tt
+            .pathways
+            .iter()
+            .enumerate()
+            .filter(|(_, p)| {
+                p.mode == crate::timetable::PathwayMode::Elevator
+                    || (p.mode == crate::timetable::PathwayMode::Walkway && p.max_slope.is_some_and(|m| m != 0.0))
+            })
+            .map(|(i, p)| {
+                let e = Element::Pathway(PathwayIdx(i as u32));
+                let at = tt.stop(p.from);
+                PickableElement {
+                    id: format!("pathway:{}", p.id),
+                    kind: if p.mode == crate::timetable::PathwayMode::Elevator { "lift" } else { "ramp" },
+                    name: self.element_name(e),
+                    station: station(p.from),
+                    stop_id: at.id.clone(),
+                    lat: at.lat,
+                    lon: at.lon,
+                }
+            })
+            .collect();
+        for (i, s) in tt.stops.iter().enumerate().filter(|(_, s)| matches!(s.kind, StopKind::Station | StopKind::Entrance)) {
+            out.push(PickableElement {
+                id: format!("stop:{}", s.id),
+                kind: if s.kind == StopKind::Station { "station" } else { "entrance" },
+                name: s.name.clone(),
+                station: station(StopIdx(i as u32)),
+                stop_id: s.id.clone(),
+                lat: s.lat,
+                lon: s.lon,
+            });
+        }
+        out
     }
 
     fn element_kind_prefix(&self, e: Element) -> &'static str {
@@ -694,12 +761,22 @@ impl Engine {
         // The ranking: elements by explained pairs blocked; the first `fix_top` rerun as fixed.
         let mut ranked: Vec<(Element, Vec<(u32, u32)>)> = blocked_by.into_iter().collect();
         ranked.sort_by(|a, b| b.1.len().cmp(&a.1.len()).then(a.0.cmp(&b.0)));
-        let mut opened: HashMap<Element, u32> = HashMap::new();
+        let mut opened: HashMap<Element, (u32, u32, u32)> = HashMap::new();
+        let cap = q.fix_origins.unwrap_or(DEFAULT_FIX_ORIGINS) as usize;
         for (e, on) in ranked.iter().take(fix_top as usize) {
-            // The blocked pairs of the origins whose explained pairs it fails.
+            // The blocked pairs of the origins whose explained pairs it fails (a seeded sample
+            // of them when there are more than the cap).
             let mut origins: Vec<u32> = on.iter().map(|x| x.0).collect();
             origins.sort_unstable();
             origins.dedup();
+            let concerned = origins.len();
+            if cap > 0 && concerned > cap {
+                let mut x = seed ^ 0x5851_F42D_4C95_7F2D;
+                let mut keyed: Vec<(u64, u32)> = origins.iter().map(|&o| (splitmix(&mut x), o)).collect();
+                keyed.sort_unstable();
+                origins = keyed.into_iter().take(cap).map(|k| k.1).collect();
+                origins.sort_unstable();
+            }
             let sub: ByOrigin = origins.iter().map(|&i| (pairs[i as usize].0, blocked_dests[i as usize].clone())).collect();
             self.set_overrides(Self::overrides_of(&[*e], Override::AssumedAccessible));
             let run = self.shared_run(step_free);
@@ -713,7 +790,8 @@ impl Engine {
                 self.set_overrides(Overrides::default());
                 return Ok(None);
             }
-            opened.insert(*e, n);
+            let scaled = (n as f64 * concerned as f64 / origins.len().max(1) as f64).round() as u32;
+            opened.insert(*e, (scaled, concerned as u32, origins.len() as u32));
         }
         self.set_overrides(Overrides::default());
         report.elements = ranked
@@ -723,7 +801,15 @@ impl Engine {
                 element_id: self.element_id(*e).to_string(),
                 name: self.element_name(*e),
                 pairs_blocked: on.len() as u32,
-                pairs_unblocked_if_fixed: opened.get(e).copied(),
+                pairs_unblocked_if_fixed: opened.get(e).map(|x| x.0),
+                origins_concerned: {
+                    let mut o: Vec<u32> = on.iter().map(|x| x.0).collect();
+                    o.sort_unstable();
+                    o.dedup();
+                    o.len() as u32
+                },
+                origins_rerun: opened.get(e).map_or(0, |x| x.2),
+                estimated: opened.get(e).is_some_and(|x| x.2 < x.1),
             })
             .collect();
         report.elements.sort_by(|a, b| {

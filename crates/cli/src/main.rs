@@ -255,7 +255,10 @@ enum Command {
         /// Elements, most-blocking first, rerun as if fixed [default: 10, at most 50].
         #[arg(long, value_name = "K")]
         fix_top: Option<u32>,
-        /// Blocked pairs per origin whose blocking elements are found [default: 25].
+        /// Origins rerun per element tried as fixed, a seeded sample, the count scaled up [default: 200; 0: all].
+        #[arg(long, value_name = "N")]
+        fix_origins: Option<u32>,
+        /// Blocked pairs per origin whose blocking elements are found [default: 10].
         #[arg(long, value_name = "N")]
         explain: Option<u32>,
         /// Threads [default: all cores].
@@ -458,6 +461,7 @@ fn run(cli: Cli) -> Result<(), String> {
             alerts,
             step_free_speed,
             fix_top,
+            fix_origins,
             explain,
             threads,
             out,
@@ -475,6 +479,7 @@ fn run(cli: Cli) -> Result<(), String> {
                 alerts: alerts.as_deref(),
                 step_free_speed,
                 fix_top,
+                fix_origins,
                 explain,
                 threads,
                 out: &out,

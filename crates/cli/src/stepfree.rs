@@ -22,7 +22,7 @@ Definitions:
   status: step_free (the step-free profile reaches the pair at some departure), blocked (only the standard profile does), no_journey.
   blocking: for blocked pairs, the elements of the standard journey at the first departure with one that fail the step-free check, as kind:id (a trip counts against its route); at most --explain pairs per origin are explained, chosen by --seed.
   outage_status: with outages, lost (step-free before, not with them), slower (a later median, or fewer departures with a journey), unchanged, not_step_free (not step-free before either); outage_blocking: the elements out of service on the step-free journey a lost pair had.
-  elements.csv: pairs_blocked = explained blocked pairs whose standard journey the element fails; pairs_unblocked_if_fixed = of the blocked pairs from the origins of those pairs, how many the step-free profile reaches with that element alone taken as step-free (the --fix-top elements with most pairs blocked are rerun; others empty). Ranked by pairs_unblocked_if_fixed, then pairs_blocked.
+  elements.csv: pairs_blocked = explained blocked pairs whose standard journey the element fails; pairs_unblocked_if_fixed = of the blocked pairs from the origins of those pairs, how many the step-free profile reaches with that element alone taken as step-free (the --fix-top elements with most pairs blocked are rerun; others empty); origins_concerned, origins_rerun: when more origins are concerned than --fix-origins, a seeded sample is rerun and the count scaled up (estimated = true). Ranked by pairs_unblocked_if_fixed, then pairs_blocked.
   completeness.csv: per feed, agency and route, stops (where vehicles call, and entrances) with wheelchair_boarding unknown after inheritance, trips with wheelchair_accessible unknown, pathways (feed only) whose step-free status cannot be checked (walkways, moving sidewalks and fare gates without max_slope).
   Steepest step-free slope 1:12 (0.083; 2010 ADA Standards §405.2); narrowest step-free pathway 0.9 m (recalled from memory; local codes prevail).";
 
@@ -38,6 +38,7 @@ pub struct Args<'a> {
     pub alerts: Option<&'a Path>,
     pub step_free_speed: Option<f64>,
     pub fix_top: Option<u32>,
+    pub fix_origins: Option<u32>,
     pub explain: Option<u32>,
     pub threads: Option<usize>,
     pub out: &'a Path,
@@ -105,6 +106,7 @@ pub fn run(engine: &mut Engine, a: Args) -> Result<(), String> {
         lenient: a.lenient,
         step_free_speed_mps: a.step_free_speed,
         fix_top: a.fix_top,
+        fix_origins: a.fix_origins,
         explain_per_origin: a.explain,
         outages: a.outage.to_vec(),
         ..Default::default()

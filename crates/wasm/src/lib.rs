@@ -7,6 +7,7 @@ use wasm_bindgen::prelude::*;
 
 use timeweave::analysis::window::{Destinations, Rows, TravelTimes};
 use timeweave::engine::interchange::{ConnectionRow, InterchangeQuery};
+use timeweave::engine::stepfree::{StepFreePairRow, StepFreeQuery, StepFreeReport};
 use timeweave::engine::window::{WindowQuery, WindowSetting};
 use timeweave::engine::{Engine as Core, PlanQuery};
 use timeweave::error::FeedIssue;
@@ -26,6 +27,8 @@ pub struct Engine {
     table: Option<MatrixTable<Vec<u8>>>,
     /// The rows of the last one-station interchange audit, handed out a pair at a time.
     ix_rows: Vec<ConnectionRow>,
+    /// The last step-free audit, for its downloads.
+    sf: Option<(StepFreeReport, Vec<StepFreePairRow>)>,
 }
 
 fn json_value<T: Serialize>(v: &T) -> Result<JsValue, JsValue> {
@@ -110,6 +113,7 @@ impl Engine {
             rows: Rows::default(),
             table: None,
             ix_rows: Vec::new(),
+            sf: None,
         }
     }
 
@@ -365,6 +369,83 @@ impl Engine {
             }
             other => Err(JsValue::from_str(&format!("no table {other:?}: rows, pairs or stations"))),
         }
+    }
+
+    /// The step-free audit (`StepFreeQuery` fields; an alerts file's bytes in `alerts`, read
+    /// into outages first). Returns `{ report, pairs, pairs_total, skipped }`: the report (counts,
+    /// ranked elements, outages, completeness, the caution) and the pairs — all of them up to
+    /// 5,000, else the blocked and lost ones first, 5,000 in all. The whole result is kept for
+    /// `stepfree_csv`. `progress(done, total)` after each origin.
+    pub fn stepfree(&mut self, query: JsValue, alerts: Option<Vec<u8>>, progress: Option<js_sys::Function>) -> Result<JsValue, JsValue> {
+        let mut q: StepFreeQuery =
+            serde_wasm_bindgen::from_value(query).map_err(|e| JsValue::from_str(&format!("bad step-free query: {e}")))?;
+        let mut skipped = Vec::new();
+        if let Some(bytes) = alerts {
+            let found = self.core.outages_from_alerts(&bytes, &q.date, &q.window).map_err(failure)?;
+            q.outage_sources.resize(q.outages.len(), "option".into());
+            for (id, source) in found.outages {
+                q.outages.push(id);
+                q.outage_sources.push(source);
+            }
+            skipped = found.skipped;
+        }
+        self.sf = None;
+        let mut rows = Vec::new();
+        let report = self
+            .core
+            .stepfree_with(&q, 1, &mut |done, total, chunk| {
+                rows.extend_from_slice(chunk);
+                if let Some(f) = &progress {
+                    let _ = f.call2(&JsValue::NULL, &JsValue::from(done as u32), &JsValue::from(total as u32));
+                }
+                true
+            })
+            .map_err(failure)?
+            .ok_or_else(|| JsValue::from_str("cancelled"))?;
+        const SHOWN: usize = 5000;
+        let shown: Vec<&StepFreePairRow> = if rows.len() <= SHOWN {
+            rows.iter().collect()
+        } else {
+            use timeweave::engine::stepfree::OutageEffect;
+            let first = |r: &&StepFreePairRow| {
+                r.status == timeweave::analysis::stepfree::PairStatus::Blocked || r.outage_status == Some(OutageEffect::Lost)
+            };
+            rows.iter().filter(first).chain(rows.iter().filter(|r| !first(r))).take(SHOWN).collect()
+        };
+        #[derive(Serialize)]
+        struct Out<'a> {
+            report: &'a StepFreeReport,
+            pairs: Vec<&'a StepFreePairRow>,
+            pairs_total: usize,
+            skipped: Vec<String>,
+        }
+        let v = json_value(&Out { report: &report, pairs: shown, pairs_total: rows.len(), skipped })?;
+        self.sf = Some((report, rows));
+        Ok(v)
+    }
+
+    /// One file of the last step-free audit, the same as the CLI writes: `pairs`, `elements`,
+    /// `completeness` or `outages` (CSV bytes).
+    pub fn stepfree_csv(&self, table: &str) -> Result<Vec<u8>, JsValue> {
+        let (r, rows) = self.sf.as_ref().ok_or_else(|| JsValue::from_str("no step-free audit yet"))?;
+        let err = |e: timeweave_tables::TableError| JsValue::from_str(&e.to_string());
+        match table {
+            "pairs" => {
+                let mut t = timeweave_tables::StepFreePairTable::new(Vec::new(), !r.outages.is_empty()).map_err(err)?;
+                t.add(rows).map_err(err)?;
+                t.finish().map_err(err)
+            }
+            "elements" => timeweave_tables::rows_csv(Vec::new(), &r.elements).map_err(err),
+            "completeness" => timeweave_tables::rows_csv(Vec::new(), &r.completeness).map_err(err),
+            "outages" => timeweave_tables::rows_csv(Vec::new(), &r.outages).map_err(err),
+            other => Err(JsValue::from_str(&format!("no table {other:?}: pairs, elements, completeness or outages"))),
+        }
+    }
+
+    /// The elements an outage can be set on, for a picker: lifts and ramps (pathways), stations
+    /// and entrances, with where they are: `[{ id: "pathway:ID", kind, name, station, lat, lon }]`.
+    pub fn accessibility_elements(&self) -> Result<JsValue, JsValue> {
+        json_value(&self.core.accessibility_elements())
     }
 
     /// The two-ride journey of a made connection (a row's `arr_event` and `dep_event` on `date`).
