@@ -1,96 +1,103 @@
-// Step-free searches in the page, against the designed cases of demo-data/README.md
-// ("Designed step-free cases", date Wednesday 2026-12-02), which demo-data/check_city.py
-// recomputes with a search of its own.
+// The step-free audit view through the page, in Chromium with the real WASM engine (one thread):
+// its files must be the ones the native CLI's `stepfree` writes on all cores for the same pairs,
+// outage and seed; the report carries the caution on screen and in print, marks the elements to
+// fix first on the sketch, and refuses bad input with its reason. No request leaves the origin.
 
 import { test, before, after } from 'node:test';
 import assert from 'node:assert/strict';
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { execFile } from 'node:child_process';
+import { promisify } from 'node:util';
 import * as h from './harness.mjs';
 
 let server;
 let browser;
-let rec;
-
-const CAUTION = "Results reflect the feed's data, which may be incomplete or out of date. Confirm on site and with the operator; local codes and licensed practice prevail.";
+let dir;
 
 before(async () => {
   server = await h.startServer();
   browser = await h.launchBrowser();
-  rec = await h.openPage(browser, { viewport: h.DESKTOP });
-  await h.openApp(rec.page, server.url);
-  await h.loadDemo(rec.page);
+  dir = fs.mkdtempSync(path.join(os.tmpdir(), 'tw-sf-'));
 });
 
 after(async () => {
   if (browser) await browser.close();
   if (server) await server.stop();
+  if (dir) fs.rmSync(dir, { recursive: true, force: true });
 });
 
-const CASE_A = { from: 'Quistenford', to: 'Tollimere', date: '2026-12-02', time: '08:00' };
+const FEEDS = ['oskerveld-city', 'oskerveld-rail'].flatMap((f) => ['--feed', `www/feeds/${f}.zip`]);
 
-function rideTrips(it) {
-  return it.legs.filter((l) => l.kind === 'ride').map((l) => l.trip_id);
+async function native(extra) {
+  const out = path.join(dir, `run-${Math.random().toString(36).slice(2)}`);
+  await promisify(execFile)(h.BIN, ['stepfree', ...FEEDS, '--date', '2026-12-02', '--window', '07:00-08:00', '--pairs', 'sample:300', '--seed', '3', ...extra, '--out', out], { cwd: h.REPO });
+  return (name) => fs.readFileSync(path.join(out, name), 'utf8');
 }
 
-test('case A: the step-free option changes the train (trip wheelchair_accessible)', async () => {
+async function download(page, selector) {
+  const [dl] = await Promise.all([page.waitForEvent('download'), page.click(selector)]);
+  return fs.readFileSync(await dl.path(), 'utf8');
+}
+
+test('the audit in the page writes the CLI files, with the outage of a lift and the caution in print', async () => {
+  const plain = await native([]);
+  const lift = await native(['--outage', 'pathway:PW_P1_ELEVATOR']);
+  const rec = await h.openPage(browser);
   const { page } = rec;
-  const off = await h.planViaForm(page, { ...CASE_A, sf: 'off' });
-  // demo-data/README.md Case A, standard: R1_WKD_0_0754 dep 08:03, arrives 08:34, status "no".
-  assert.equal(off.journeys[0].arrive, '08:34');
-  assert.deepEqual(rideTrips(off.journeys[0]), ['R1_WKD_0_0754']);
-  assert.equal(off.journeys[0].step_free, 'no');
-  assert.equal(await page.isVisible('#sf-notes'), false, 'no step-free notes on a standard search');
-
-  const lenient = await h.planViaForm(page, { ...CASE_A, sf: 'lenient' });
-  // demo-data/README.md Case A, lenient: R1_WKD_0_0824, arrives 09:04, +30 min (1800 s).
-  assert.equal(lenient.journeys[0].arrive, '09:04');
-  assert.deepEqual(rideTrips(lenient.journeys[0]), ['R1_WKD_0_0824']);
-  assert.equal(lenient.step_free_extra_s, 1800);
-  assert.equal(await page.textContent('#sf-extra'), 'The step-free journey arrives 30 min later than the standard one.');
-
-  const strict = await h.planViaForm(page, { ...CASE_A, sf: 'strict' });
-  // demo-data/README.md Case A, strict: R1_WKD_0_0854, arrives 09:34, +60 min (3600 s).
-  assert.equal(strict.journeys[0].arrive, '09:34');
-  assert.deepEqual(rideTrips(strict.journeys[0]), ['R1_WKD_0_0854']);
-  assert.equal(strict.step_free_extra_s, 3600);
-  assert.equal(strict.journeys[0].step_free, 'yes');
-  assert.equal(await page.textContent('#sf-extra'), 'The step-free journey arrives 1 h 00 min later than the standard one.');
-  // Project rule: the caution is shown with accessibility results.
-  assert.ok((await page.textContent('#sf-notes')).includes(CAUTION));
-  assert.equal(await page.isVisible('#sf-notes'), true);
-  assert.match(await page.textContent('#results'), /Step-free/);
-  await h.shot(page, 'desktop-step-free');
+  await h.openApp(page, server.url);
+  await h.loadDemo(page);
+  await page.click('#tab-stepfree');
+  await page.waitForSelector('html[data-view="stepfree"]');
+  assert.match(await page.textContent('#view-stepfree .caution-box'), /Results reflect the feed's data, which may be incomplete or out of date/);
+  await page.fill('#sf-date', '2026-12-02');
+  await page.fill('#sf-n', '300');
+  await page.fill('#sf-seed', '3');
+  await page.click('#sf-run');
+  await page.waitForSelector('#sf-csv-pairs:not([disabled])');
+  assert.match(await page.textContent('#sf-summary'), /^300 pairs, 2026-12-02, 60 departures/);
+  for (const t of ['pairs', 'elements', 'completeness']) assert.equal(await download(page, `#sf-csv-${t}`), plain(`${t}.csv`), `${t}.csv`);
+  // The elements to fix first are marked on the sketch by rank.
+  assert.ok((await page.$$('#sf-sketch circle.sk-sized-stop')).length >= 1);
+  assert.ok((await page.$$('#sf-sketch text.sk-rank')).length >= 1);
+  assert.match(await page.textContent('#sf-sketch title'), /Places of the first \d+ elements to fix/);
+  // The lift out of service, picked from the list.
+  await page.check('#sf-outages input[value="pathway:PW_P1_ELEVATOR"]');
+  await page.click('#sf-run');
+  await page.waitForSelector('#sf-csv-outages:not([disabled])');
+  assert.equal(await download(page, '#sf-csv-pairs'), lift('pairs.csv'));
+  assert.equal(await download(page, '#sf-csv-outages'), lift('outages.csv'));
+  assert.match(await page.textContent('#sf-outage-summary'), /pathway PW_P1_ELEVATOR .* out of service: \d+ of \d+ step-free pairs lose step-free access, \d+ are slower/);
+  // The printed report: the caution and the tables, without the form.
+  await page.emulateMedia({ media: 'print' });
+  assert.equal(await page.isVisible('#sf-form'), false);
+  assert.equal(await page.isVisible('#view-stepfree .report .caution-box'), true);
+  assert.equal(await page.isVisible('#sf-elements table'), true);
+  await page.emulateMedia({ media: 'screen' });
+  await h.shot(page, 'stepfree-report');
+  assert.deepEqual(h.offOrigin(rec.requests, new URL(server.url).origin), []);
+  assert.deepEqual(rec.errors, []);
+  await rec.context.close();
 });
 
-test('case B: strict step-free avoids the stairs-only entrance', async () => {
+test('bad pairs and unknown outages are refused with their reason', async () => {
+  const rec = await h.openPage(browser);
   const { page } = rec;
-  const strict = await h.planViaForm(page, { from: 'OCT_TPL_A', fromPick: 'Tram Place', to: 'Tollimere', date: '2026-12-02', time: '08:00', sf: 'strict' });
-  const it = strict.journeys[0];
-  // demo-data/README.md Case B, strict: Coachyard Street entrance, ramp, gates, elevator; R1_WKD_0_0854 arrives 09:34.
-  assert.equal(it.arrive, '09:34');
-  const modes = it.legs.flatMap((l) => (l.pathways || []).map((p) => p.pathway_mode));
-  assert.ok(modes.includes('elevator'), JSON.stringify(modes));
-  assert.ok(!modes.includes('stairs') && !modes.includes('escalator'), JSON.stringify(modes));
-  const detail = await page.textContent('#detail');
-  assert.ok(detail.includes('lift'), 'the elevator is named in the walk path');
-  assert.equal(strict.step_free_extra_s, 3600);
-});
-
-test('case C: no step-free journey to Mossgrave Halt, with the blocker named', async () => {
-  const { page } = rec;
-  const off = await h.planViaForm(page, { from: 'OCT_TPL_A', fromPick: 'Tram Place', to: 'Mossgrave', date: '2026-12-02', time: '08:00', sf: 'off' });
-  assert.ok(off.journeys.length >= 1, 'demo-data/README.md Case C: a standard search finds a journey');
-  const strict = await h.planViaForm(page, { from: 'OCT_TPL_A', fromPick: 'Tram Place', to: 'Mossgrave', date: '2026-12-02', time: '08:00', sf: 'strict' });
-  // demo-data/README.md Case C: no step-free path (code "no_step_free_path").
-  assert.equal(strict.journeys.length, 0);
-  assert.equal(strict.nothing_found.code, 'no_step_free_path');
-  assert.equal(await page.isVisible('#no-journey'), true);
-  assert.ok((await page.textContent('#no-journey-message')).includes(strict.nothing_found.text));
-  const blocked = strict.nothing_found.blocked_by || [];
-  assert.ok(blocked.length >= 1, 'the blocker is listed');
-  assert.ok(blocked.some((b) => /Mossgrave/.test(String(b.text))), JSON.stringify(blocked));
-  assert.ok(blocked.every((b) => b.checks.length >= 1 && b.checks.every((c) => c.verdict !== 'yes')), JSON.stringify(blocked));
-  const shown = await page.$$eval('#no-journey-list li', (lis) => lis.map((l) => l.textContent));
-  assert.deepEqual(shown, blocked.map((b) => String(b.text)));
-  assert.ok((await page.textContent('#sf-notes')).includes(CAUTION));
-  await h.shot(page, 'desktop-no-journey');
+  await h.openApp(page, server.url);
+  await h.loadDemo(page);
+  await page.click('#tab-stepfree');
+  await page.waitForSelector('html[data-view="stepfree"]');
+  await page.fill('#sf-date', '2026-12-02');
+  await page.check('input[name="sf-pairs"][value="list"]');
+  await page.fill('#sf-list', 'ORR_QSF,ORR_CEN\nORR_QSF');
+  await page.click('#sf-run');
+  assert.match(await page.textContent('#sf-error'), /Pairs, line 2: "ORR_QSF" is not "from id, to id"/);
+  await page.fill('#sf-list', 'ORR_QSF,ORR_CEN');
+  await page.fill('#sf-outage-ids', 'PW_P1_ELEVATR');
+  await page.click('#sf-run');
+  await page.waitForFunction(() => !document.querySelector('#sf-error').hidden && document.querySelector('#sf-error').textContent.includes('did you mean'));
+  assert.match(await page.textContent('#sf-error'), /pathway:PW_P1_ELEVATOR/);
+  assert.deepEqual(rec.errors, []);
+  await rec.context.close();
 });
