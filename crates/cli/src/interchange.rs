@@ -3,7 +3,6 @@
 //! any work and renamed into place together at the end; Ctrl-C leaves none.
 
 use std::path::Path;
-use std::sync::atomic::Ordering;
 
 use timeweave::analysis::interchange::Status;
 use timeweave::engine::interchange::InterchangeQuery;
@@ -11,7 +10,7 @@ use timeweave::engine::Engine;
 use timeweave_disk::Staged;
 use timeweave_tables::{rows_csv, ConnectionTable};
 
-use crate::window::{bar, beside, cancel_on_ctrl_c};
+use crate::window::{beside, streamed, StreamError};
 
 pub fn run(engine: &mut Engine, q: &InterchangeQuery, out: &Path) -> Result<(), String> {
     let cannot = |p: &Path, e: &dyn std::fmt::Display| format!("error: cannot write {}: {e}", p.display());
@@ -19,15 +18,11 @@ pub fn run(engine: &mut Engine, q: &InterchangeQuery, out: &Path) -> Result<(), 
     let stage = |p: &Path| Staged::create(p).map_err(|e| cannot(p, &e));
     let (rows_file, pairs_file, stations_file) = (stage(out)?, stage(&pairs_path)?, stage(&stations_path)?);
     let mut table = ConnectionTable::new(rows_file.writer().map_err(|e| cannot(out, &e))?).map_err(|e| cannot(out, &e))?;
-    let cancel = cancel_on_ctrl_c();
-    let mut progress: Option<indicatif::ProgressBar> = None;
     let (mut made, mut none, mut not_possible, mut near) = (0u64, 0u64, 0u64, 0u64);
-    let mut failed = None;
-    let report = engine
-        .interchange_with(q, &mut |done, total, rows| {
-            if total > 1 {
-                progress.get_or_insert_with(|| bar(total, "stations")).set_position(done as u64);
-            }
+    let report = streamed(
+        "stations",
+        |sink| engine.interchange_with(q, sink),
+        |rows: &[timeweave::engine::interchange::ConnectionRow]| {
             for r in rows {
                 match r.status {
                     Status::Made => made += 1,
@@ -36,20 +31,14 @@ pub fn run(engine: &mut Engine, q: &InterchangeQuery, out: &Path) -> Result<(), 
                 }
                 near += r.near_miss as u64;
             }
-            if let Err(e) = table.add(rows) {
-                failed = Some(e);
-                return false;
-            }
-            !cancel.load(Ordering::Relaxed)
-        })
-        .map_err(|e| format!("error: {e}"))?;
-    if let Some(b) = progress {
-        b.finish_and_clear();
-    }
-    if let Some(e) = failed {
-        return Err(cannot(out, &e));
-    }
-    let Some(report) = report else { return Err("cancelled: nothing was written".into()) };
+            table.add(rows)
+        },
+    )
+    .map_err(|e| match e {
+        StreamError::Query(m) => m,
+        StreamError::Table(e) => cannot(out, &e),
+        StreamError::Cancelled => "cancelled: nothing was written".into(),
+    })?;
     let rows = table.rows;
     let mut w = table.finish().map_err(|e| cannot(out, &e))?;
     std::io::Write::flush(&mut w).map_err(|e| cannot(out, &e))?;

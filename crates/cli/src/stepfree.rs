@@ -4,14 +4,13 @@
 //! is staged in the folder and renamed into place at the end, so Ctrl-C leaves none.
 
 use std::path::{Path, PathBuf};
-use std::sync::atomic::Ordering;
 
 use timeweave::engine::stepfree::{StepFreeQuery, StepFreeReport, CAUTION};
 use timeweave::engine::Engine;
 use timeweave_disk::Staged;
 use timeweave_tables::{rows_csv, StepFreePairTable};
 
-use crate::window::{bar, cancel_on_ctrl_c};
+use crate::window::{streamed, StreamError};
 
 /// The definitions behind every number `stepfree` writes, for its `--help` and `about.txt`.
 pub const DEFINITIONS: &str = "\
@@ -148,28 +147,13 @@ pub fn run(engine: &mut Engine, a: Args) -> Result<(), String> {
     let pairs_path = path("pairs.csv");
     let mut table = StepFreePairTable::new(file("pairs.csv").writer().map_err(|e| cannot(&pairs_path, &e))?, with_outages)
         .map_err(|e| cannot(&pairs_path, &e))?;
-    let cancel = cancel_on_ctrl_c();
     let threads = a.threads.unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
-    let mut progress: Option<indicatif::ProgressBar> = None;
-    let mut failed = None;
     let started = std::time::Instant::now();
-    let report = engine
-        .stepfree_with(&q, threads, &mut |done, total, rows| {
-            progress.get_or_insert_with(|| bar(total, "origins")).set_position(done as u64);
-            if let Err(e) = table.add(rows) {
-                failed = Some(e);
-                return false;
-            }
-            !cancel.load(Ordering::Relaxed)
-        })
-        .map_err(|e| format!("error: {e}"))?;
-    if let Some(b) = progress {
-        b.finish_and_clear();
-    }
-    if let Some(e) = failed {
-        return Err(cannot(&pairs_path, &e));
-    }
-    let Some(report) = report else { return Err("cancelled: nothing was written".into()) };
+    let report = streamed("origins", |sink| engine.stepfree_with(&q, threads, sink), |rows| table.add(rows)).map_err(|e| match e {
+        StreamError::Query(m) => m,
+        StreamError::Table(e) => cannot(&pairs_path, &e),
+        StreamError::Cancelled => "cancelled: nothing was written".into(),
+    })?;
     let mut w = table.finish().map_err(|e| cannot(&pairs_path, &e))?;
     std::io::Write::flush(&mut w).map_err(|e| cannot(&pairs_path, &e))?;
     write_rows(file("elements.csv"), &path("elements.csv"), &report.elements)?;

@@ -193,6 +193,46 @@ pub fn cancel_on_ctrl_c() -> Arc<AtomicBool> {
     cancel
 }
 
+/// Why a streamed run wrote nothing.
+pub enum StreamError {
+    /// A bad request, as the engine put it.
+    Query(String),
+    /// The table could not be written.
+    Table(timeweave_tables::TableError),
+    Cancelled,
+}
+
+/// Runs an analysis that hands its rows on as it goes (`run` calls its sink with done, total and
+/// the rows), adding them to a table with `add`, with a progress bar over `what` (when there is
+/// more than one) and Ctrl-C.
+pub fn streamed<R, T>(
+    what: &'static str,
+    run: impl FnOnce(&mut dyn FnMut(usize, usize, &[T]) -> bool) -> Result<Option<R>, timeweave::error::QueryError>,
+    mut add: impl FnMut(&[T]) -> Result<(), timeweave_tables::TableError>,
+) -> Result<R, StreamError> {
+    let cancel = cancel_on_ctrl_c();
+    let mut progress: Option<indicatif::ProgressBar> = None;
+    let mut failed = None;
+    let report = run(&mut |done, total, rows| {
+        if total > 1 {
+            progress.get_or_insert_with(|| bar(total, what)).set_position(done as u64);
+        }
+        if let Err(e) = add(rows) {
+            failed = Some(e);
+            return false;
+        }
+        !cancel.load(Ordering::Relaxed)
+    })
+    .map_err(|e| StreamError::Query(format!("error: {e}")))?;
+    if let Some(b) = progress {
+        b.finish_and_clear();
+    }
+    if let Some(e) = failed {
+        return Err(StreamError::Table(e));
+    }
+    report.ok_or(StreamError::Cancelled)
+}
+
 /// A progress bar over `n` things.
 pub fn bar(n: usize, what: &str) -> indicatif::ProgressBar {
     let bar = indicatif::ProgressBar::new(n as u64);

@@ -47,7 +47,19 @@ fn the_folder_holds_pairs_elements_completeness_and_the_caution() {
     assert!(lost + slower > 0, "the platform 1 lift out changes some pairs");
     assert!(pairs.iter().any(|p| p[status] == "blocked" && !p[6].is_empty()), "blocked pairs are explained");
     let (head, elements) = csv_rows(&out.join("elements.csv"));
-    assert_eq!(head, ["element_kind", "element_id", "name", "pairs_blocked", "pairs_unblocked_if_fixed"]);
+    assert_eq!(
+        head,
+        [
+            "element_kind",
+            "element_id",
+            "name",
+            "pairs_blocked",
+            "pairs_unblocked_if_fixed",
+            "origins_concerned",
+            "origins_rerun",
+            "estimated"
+        ]
+    );
     assert!(!elements.is_empty());
     let opened: Vec<u32> = elements.iter().map(|e| e[4].parse().unwrap_or(0)).collect();
     assert!(opened.windows(2).all(|w| w[0] >= w[1]), "ranked by pairs opened if fixed: {opened:?}");

@@ -85,6 +85,13 @@ fn failure(e: timeweave::error::QueryError) -> JsValue {
     to_js(&QueryFailure { message: e.to_string(), detail: e }).unwrap_or_else(|e| e)
 }
 
+/// Tells a page's `progress(done, total)` callback, if it gave one.
+fn tell(progress: &Option<js_sys::Function>, done: usize, total: usize) {
+    if let Some(f) = progress {
+        let _ = f.call2(&JsValue::NULL, &JsValue::from(done as u32), &JsValue::from(total as u32));
+    }
+}
+
 fn interchange_query(v: JsValue) -> Result<InterchangeQuery, JsValue> {
     serde_wasm_bindgen::from_value(v).map_err(|e| JsValue::from_str(&format!("bad interchange query: {e}")))
 }
@@ -303,9 +310,7 @@ impl Engine {
                 if keep {
                     rows.extend_from_slice(chunk);
                 }
-                if let Some(f) = &progress {
-                    let _ = f.call2(&JsValue::NULL, &JsValue::from(done as u32), &JsValue::from(total as u32));
-                }
+                tell(&progress, done, total);
                 true
             })
             .map_err(failure)?
@@ -395,9 +400,7 @@ impl Engine {
             .core
             .stepfree_with(&q, 1, &mut |done, total, chunk| {
                 rows.extend_from_slice(chunk);
-                if let Some(f) = &progress {
-                    let _ = f.call2(&JsValue::NULL, &JsValue::from(done as u32), &JsValue::from(total as u32));
-                }
+                tell(&progress, done, total);
                 true
             })
             .map_err(failure)?

@@ -19,7 +19,9 @@
 // Not a `*.test.mjs` file: the test command does not run it. Run: node tests/browser/bench/bench.mjs
 // Environment: TIMEWEAVE_BENCH_FEED (default bench-out/metro-1.zip), TIMEWEAVE_BENCH_QUERIES
 // (default 1000), TIMEWEAVE_BENCH_DATE (default 2026-12-02), TIMEWEAVE_BENCH_KINDS (comma-separated
-// subset of plan1,plan3,strict,reach,reach_minutes,interchange; default all), TIMEWEAVE_BIN.
+// subset of plan1,plan3,strict,reach,reach_minutes,interchange,stepfree; default all), TIMEWEAVE_BIN.
+// `stepfree`: the step-free audit of a 500-pair sample, 07:00–08:00 (the page's view, one thread),
+// three runs.
 // `interchange`: the audit of each station, 07:00–09:00, one at a time (what the page's
 // Connections view runs for one station), after one audit of all stations to list them.
 
@@ -35,7 +37,7 @@ const N = Math.max(1, Number(process.env.TIMEWEAVE_BENCH_QUERIES || 1000));
 const DATE = process.env.TIMEWEAVE_BENCH_DATE || '2026-12-02';
 const OUT_DIR = path.join(REPO, 'bench-out');
 const LIMIT_MIN = 240;
-const KINDS = (process.env.TIMEWEAVE_BENCH_KINDS || 'plan1,plan3,strict,reach,reach_minutes,interchange').split(',');
+const KINDS = (process.env.TIMEWEAVE_BENCH_KINDS || 'plan1,plan3,strict,reach,reach_minutes,interchange,stepfree').split(',');
 
 // ------------------------------------------------------------------ server and processes
 
@@ -363,6 +365,21 @@ async function main() {
       }, { date: DATE });
       result.interchange = { ...stats(r.times), all_ms: r.allMs, stations: r.stations, busiest: r.busiest };
     }
+    if (KINDS.includes('stepfree')) {
+      console.error('bench: stepfree, a 500-pair sample');
+      result.stepfree = await page.evaluate(({ date }) => {
+        const { engine } = window.__bench;
+        const times = [];
+        let counts = null;
+        for (let k = 0; k < 3; k++) {
+          const t = performance.now();
+          const r = engine.stepfree({ date, window: '07:00-08:00', pairs: 'sample:500' }, undefined, undefined);
+          times.push(performance.now() - t);
+          counts = r.report.counts;
+        }
+        return { times, counts };
+      }, { date: DATE });
+    }
     const queryPeak = querySampler.stop();
     result.query_peak_rss = queryPeak.rss;
     result.query_peak_pss = queryPeak.pss;
@@ -416,6 +433,11 @@ function table(r) {
   if (r.interchange) {
     const x = r.interchange;
     lines.push(`| \`interchange\` one station, 07:00–09:00, each of ${x.stations} stations (summaries to JS, rows kept in the engine); busiest ${x.busiest.station}, ${x.busiest.rows} rows: ${fmtMs(x.busiest.ms)} ms; all stations at once ${(x.all_ms / 1000).toFixed(2)} s | ${fmtMs(x.median)} ms | ${fmtMs(x.p95)} ms | | one station ≤ 200 ms (the busiest) | ${x.busiest.ms <= 200 ? 'met' : 'missed'} |`);
+  }
+  if (r.stepfree) {
+    const t = [...r.stepfree.times].sort((a, b) => a - b);
+    const c = r.stepfree.counts;
+    lines.push(`| \`stepfree\` a 500-pair sample, 07:00–08:00, one thread (${c.step_free} step-free, ${c.blocked} blocked, ${c.explained} explained; runs ${t.map((x) => (x / 1000).toFixed(2)).join(', ')} s) | ${(t[1] / 1000).toFixed(2)} s | | | ≤ 5 s | ${t[1] <= 5000 ? 'met' : 'missed'} |`);
   }
   lines.push('');
   lines.push('| zip → routable | figure | target | |');
