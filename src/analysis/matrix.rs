@@ -45,6 +45,25 @@ pub fn run_each<T: Send, E: Send>(
     threads: usize,
     cancel: &AtomicBool,
     work: impl Fn(&mut SearchState, &mut TravelTimes, usize) -> T + Sync,
+    sink: impl FnMut(usize, T) -> Result<(), E>,
+) -> Result<Ended, E> {
+    run_each_with(
+        n,
+        threads,
+        cancel,
+        || (SearchState::new(), TravelTimes::default()),
+        |s: &mut (SearchState, TravelTimes), i| work(&mut s.0, &mut s.1, i),
+        sink,
+    )
+}
+
+/// [`run_each`] with a state of the caller's own per thread, made by `init`.
+pub fn run_each_with<S, T: Send, E: Send>(
+    n: usize,
+    threads: usize,
+    cancel: &AtomicBool,
+    init: impl Fn() -> S + Sync,
+    work: impl Fn(&mut S, usize) -> T + Sync,
     mut sink: impl FnMut(usize, T) -> Result<(), E>,
 ) -> Result<Ended, E> {
     let threads = threads.clamp(1, n.max(1));
@@ -56,10 +75,9 @@ pub fn run_each<T: Send, E: Send>(
     std::thread::scope(|scope| {
         for _ in 0..threads {
             let tx = tx.clone();
-            let (next, written, work) = (&next, &written, &work);
+            let (next, written, work, init) = (&next, &written, &work, &init);
             scope.spawn(move || {
-                let mut st = SearchState::new();
-                let mut times = TravelTimes::default();
+                let mut st = init();
                 loop {
                     let i = next.fetch_add(1, Ordering::Relaxed);
                     if i >= n || cancel.load(Ordering::Relaxed) {
@@ -72,7 +90,7 @@ pub fn run_each<T: Send, E: Send>(
                             w = written.1.wait_timeout(w, std::time::Duration::from_millis(50)).unwrap_or_else(|e| e.into_inner()).0;
                         }
                     }
-                    let out = work(&mut st, &mut times, i);
+                    let out = work(&mut st, i);
                     if tx.send((i, out)).is_err() {
                         return;
                     }

@@ -3,6 +3,7 @@
 //! around [`Engine`]. The questions about a window of departures (reach, a pair's profile,
 //! matrices) are in [`window`].
 
+pub mod compare;
 pub mod interchange;
 pub mod stepfree;
 pub mod window;
