@@ -3,7 +3,8 @@
 # petgraph's dijkstra and a plain Connection Scan (cargo bench --bench queries), the window analyses
 # (cargo bench --bench window: profile vs 120 sweeps, the region matrix), the interchange audit
 # (cargo bench --bench interchange: metro all stations all day, against the first version), the
-# step-free audit (cargo bench --bench stepfree: region every pair, against both profiles alone), then the WASM build
+# step-free audit (cargo bench --bench stepfree: region every pair, against both profiles alone), the
+# comparison (cargo bench --bench compare: region against itself, against one matrix), then the WASM build
 # in headless Chromium on the metro feed (tests/browser/bench/bench.mjs). Prints both Markdown
 # tables and the machine they ran on. Takes several minutes; the feeds are generated into
 # bench-out/ on first use.
@@ -39,6 +40,7 @@ cargo bench -j "${CARGO_JOBS:-1}" --bench queries 2>&1 | tee bench-out/native.lo
 cargo bench -j "${CARGO_JOBS:-1}" --bench window 2>&1 | tee bench-out/window.log
 cargo bench -j "${CARGO_JOBS:-1}" --bench interchange 2>&1 | tee bench-out/interchange.log
 cargo bench -j "${CARGO_JOBS:-1}" --bench stepfree 2>&1 | tee bench-out/stepfree.log
+cargo bench -j "${CARGO_JOBS:-1}" --bench compare 2>&1 | tee bench-out/compare.log
 
 node tests/browser/bench/bench.mjs 2>&1 | tee bench-out/browser.log
 
@@ -55,6 +57,8 @@ node tests/browser/bench/bench.mjs 2>&1 | tee bench-out/browser.log
   cat bench-out/interchange.md
   echo
   cat bench-out/stepfree.md
+  echo
+  cat bench-out/compare.md
   echo
   cat bench-out/browser.md
 } | tee bench-out/report.md

@@ -71,12 +71,17 @@ pub struct VersionTimes {
     pub within: f64,
 }
 
+/// Rounded to the millisecond, as every time the shells write (interpolation leaves float noise).
+fn ms(x: f64) -> f64 {
+    (x * 1000.0).round() / 1000.0
+}
+
 fn version_times(times: &mut [u32], cutoff_s: u32) -> VersionTimes {
     let n = times.len().max(1) as f64;
     let within = times.iter().filter(|&&t| t != NONE && t <= cutoff_s).count() as f64 / n;
     let reached = times.iter().any(|&t| t != NONE);
     times.sort_unstable();
-    VersionTimes { p50_s: percentile(times, 50.0), p90_s: percentile(times, 90.0), reached, within }
+    VersionTimes { p50_s: percentile(times, 50.0).map(ms), p90_s: percentile(times, 90.0).map(ms), reached, within }
 }
 
 /// The change of a pair reached (or not) in both versions.
@@ -578,6 +583,11 @@ pub fn compare(
                 service: side,
             });
         }
+    }
+    for r in &mut station_rows {
+        r.opportunities_before = ms(r.opportunities_before);
+        r.opportunities_after = ms(r.opportunities_after);
+        r.median_change_s = r.median_change_s.map(ms);
     }
     report.stations = station_rows;
     // Routes, by id across versions.

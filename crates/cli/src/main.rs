@@ -7,6 +7,7 @@ use clap::{Parser, Subcommand};
 use timeweave::engine::{Engine, PlanQuery};
 use timeweave::route::StepFree;
 
+mod compare;
 mod interchange;
 mod stepfree;
 mod window;
@@ -268,6 +269,47 @@ enum Command {
         #[arg(long, value_name = "DIR")]
         out: PathBuf,
     },
+    /// Compare two versions of a timetable over a window, never merged: per pair of places the
+    /// median and 90th percentile before and after, per place the change and lost or gained
+    /// service, per route trips, first and last departures and headway, the connections whose
+    /// status changed, and a headline. Writes a folder of CSV files and about.txt.
+    #[command(after_help = compare::DEFINITIONS)]
+    Compare {
+        /// A feed of the version before (a .zip or a folder); repeat for several.
+        #[arg(long, required = true, value_name = "FILE")]
+        before: Vec<PathBuf>,
+        /// A feed of the version after; repeat for several.
+        #[arg(long, required = true, value_name = "FILE")]
+        after: Vec<PathBuf>,
+        /// Service date, YYYY-MM-DD (of both versions unless --after-date is given).
+        #[arg(long)]
+        date: String,
+        /// Service date of the version after, YYYY-MM-DD (compare a Wednesday of each).
+        #[arg(long)]
+        after_date: Option<String>,
+        /// Departures in this window, local HH:MM-HH:MM (the end not sampled).
+        #[arg(long, value_name = "HH:MM-HH:MM")]
+        window: String,
+        /// Minutes between sampled departures [default: 1].
+        #[arg(long, value_name = "MIN")]
+        step: Option<u32>,
+        /// all (every pair of places in both versions), sample:N, or a CSV file with
+        /// from_stop_id,to_stop_id.
+        #[arg(long, default_value = "all", value_name = "all|sample:N|FILE")]
+        pairs: String,
+        /// Seed of the sample [default: 1].
+        #[arg(long)]
+        seed: Option<u64>,
+        /// Cut-off of the cumulative opportunities, minutes [default: 30].
+        #[arg(long, value_name = "MIN")]
+        cutoff: Option<u32>,
+        /// Threads [default: all cores].
+        #[arg(long, value_name = "N")]
+        threads: Option<usize>,
+        /// Output folder (created if missing); its files are written whole or not at all.
+        #[arg(long, value_name = "DIR")]
+        out: PathBuf,
+    },
     /// Load feeds and print what was read, with every warning (file, line, field).
     Check {
         #[command(flatten)]
@@ -485,6 +527,24 @@ fn run(cli: Cli) -> Result<(), String> {
                 out: &out,
             };
             stepfree::run(&mut engine, a)
+        }
+        Command::Compare { before, after, date, after_date, window, step, pairs, seed, cutoff, threads, out } => {
+            let mut b = load(&before, false)?;
+            let mut a = load(&after, false)?;
+            let args = compare::Args {
+                before: &before,
+                after: &after,
+                date,
+                after_date,
+                window,
+                step,
+                pairs: &pairs,
+                seed,
+                cutoff,
+                threads,
+                out: &out,
+            };
+            compare::run(&mut b, &mut a, args)
         }
         Command::Check { feeds, json: as_json } => {
             let engine = load(&feeds.feeds, true)?;

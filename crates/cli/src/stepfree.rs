@@ -43,9 +43,9 @@ pub struct Args<'a> {
     pub out: &'a Path,
 }
 
-/// Reads a pairs file: CSV with `from_stop_id,to_stop_id`; every id checked, naming the file,
-/// line and field of the first bad one.
-fn pairs_file(engine: &Engine, path: &Path) -> Result<Vec<(String, String)>, String> {
+/// Reads a pairs file: CSV with `from_stop_id,to_stop_id`; every id checked with `check`,
+/// naming the file, line and field of the first bad one.
+pub fn read_pairs(path: &Path, check: &dyn Fn(&str) -> Result<(), String>) -> Result<Vec<(String, String)>, String> {
     let at = |line: u64, m: String| format!("error: {}: line {line}: {m}", path.display());
     let mut r = csv::Reader::from_path(path).map_err(|e| format!("error: cannot read {}: {e}", path.display()))?;
     let head = r.headers().map_err(|e| at(1, format!("{e}")))?.clone();
@@ -64,7 +64,7 @@ fn pairs_file(engine: &Engine, path: &Path) -> Result<Vec<(String, String)>, Str
             if v.is_empty() {
                 return Err(at(line, format!("field {name}: empty (expected a station or stop id)")));
             }
-            engine.resolve_place(&v).map_err(|e| at(line, format!("field {name}: {e}")))?;
+            check(&v).map_err(|e| at(line, format!("field {name}: {e}")))?;
             Ok(v)
         };
         out.push((get(a, "from_stop_id")?, get(b, "to_stop_id")?));
@@ -113,7 +113,7 @@ pub fn run(engine: &mut Engine, a: Args) -> Result<(), String> {
     if a.pairs == "all" || a.pairs.starts_with("sample:") {
         q.pairs = Some(a.pairs.to_string());
     } else {
-        q.pair_list = Some(pairs_file(engine, Path::new(a.pairs))?);
+        q.pair_list = Some(read_pairs(Path::new(a.pairs), &|v| engine.resolve_place(v).map(|_| ()).map_err(|e| e.to_string()))?);
     }
     if let Some(p) = a.outages {
         q.outages.extend(outages_file(engine, p)?);

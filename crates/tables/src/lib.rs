@@ -407,3 +407,28 @@ impl<W: Write> StepFreePairTable<W> {
         self.w.into_inner().map_err(|e| TableError::Io(e.into_error()))
     }
 }
+
+/// Serialisable rows as CSV, added a batch at a time (the header from the field names, written
+/// with the first row).
+pub struct SerdeTable<W: Write> {
+    w: csv::Writer<W>,
+    pub rows: u64,
+}
+
+impl<W: Write> SerdeTable<W> {
+    pub fn new(out: W) -> Self {
+        SerdeTable { w: csv::Writer::from_writer(out), rows: 0 }
+    }
+
+    pub fn add<T: serde::Serialize>(&mut self, rows: &[T]) -> Result<(), TableError> {
+        for r in rows {
+            self.w.serialize(r)?;
+        }
+        self.rows += rows.len() as u64;
+        Ok(())
+    }
+
+    pub fn finish(self) -> Result<W, TableError> {
+        self.w.into_inner().map_err(|e| TableError::Io(e.into_error()))
+    }
+}
