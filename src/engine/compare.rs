@@ -132,6 +132,25 @@ pub struct CompareStationRow {
     pub service: &'static str,
 }
 
+impl CompareStationRow {
+    /// A place with its departures in each version and nothing compared yet.
+    fn new(station: String, name: String, departures_before: u32, departures_after: u32, service: &'static str) -> Self {
+        CompareStationRow {
+            station,
+            name,
+            destinations_both: 0,
+            median_change_s: None,
+            reached_before: 0,
+            reached_after: 0,
+            opportunities_before: 0.0,
+            opportunities_after: 0.0,
+            departures_before,
+            departures_after,
+            service,
+        }
+    }
+}
+
 #[derive(Debug, Clone, Serialize)]
 pub struct CompareRouteRow {
     pub route_id: String,
@@ -463,19 +482,8 @@ pub fn compare(
         let (ob, oa) = common[*k];
         rows.clear();
         let mut changes_f: Vec<f64> = Vec::new();
-        let st = stations.entry(*k).or_insert_with(|| CompareStationRow {
-            station: bid[ob].clone(),
-            name: b_eng.tt.stop(b_eng.places.stops[ob]).name.clone(),
-            destinations_both: 0,
-            median_change_s: None,
-            reached_before: 0,
-            reached_after: 0,
-            opportunities_before: 0.0,
-            opportunities_after: 0.0,
-            departures_before: dep_b[ob],
-            departures_after: dep_a[oa],
-            service: "kept",
-        });
+        let name = || b_eng.tt.stop(b_eng.places.stops[ob]).name.clone();
+        let st = stations.entry(*k).or_insert_with(|| CompareStationRow::new(bid[ob].clone(), name(), dep_b[ob], dep_a[oa], "kept"));
         for (&j, (vb, va)) in dests.iter().zip(&out) {
             let status = pair_change(vb, va);
             counts.pairs += 1;
@@ -545,18 +553,8 @@ pub fn compare(
     // Stations: every place of either version, with its service.
     let mut station_rows: Vec<CompareStationRow> = Vec::new();
     for (k, &(ob, oa)) in common.iter().enumerate() {
-        let mut row = stations.remove(&k).unwrap_or_else(|| CompareStationRow {
-            station: bid[ob].clone(),
-            name: b_eng.tt.stop(b_eng.places.stops[ob]).name.clone(),
-            destinations_both: 0,
-            median_change_s: None,
-            reached_before: 0,
-            reached_after: 0,
-            opportunities_before: 0.0,
-            opportunities_after: 0.0,
-            departures_before: dep_b[ob],
-            departures_after: dep_a[oa],
-            service: "kept",
+        let mut row = stations.remove(&k).unwrap_or_else(|| {
+            CompareStationRow::new(bid[ob].clone(), b_eng.tt.stop(b_eng.places.stops[ob]).name.clone(), dep_b[ob], dep_a[oa], "kept")
         });
         row.service = match (row.departures_before > 0, row.departures_after > 0) {
             (true, false) => "lost",
@@ -569,19 +567,8 @@ pub fn compare(
     for (eng, ids, deps, side) in [(b_eng, &bid, &dep_b, "lost"), (a_eng, &aid, &dep_a, "gained")] {
         let other: &HashMap<&str, usize> = if side == "lost" { &a_of } else { &b_of };
         for (p, id) in ids.iter().enumerate().filter(|(_, id)| !other.contains_key(id.as_str())) {
-            station_rows.push(CompareStationRow {
-                station: id.clone(),
-                name: eng.tt.stop(eng.places.stops[p]).name.clone(),
-                destinations_both: 0,
-                median_change_s: None,
-                reached_before: 0,
-                reached_after: 0,
-                opportunities_before: 0.0,
-                opportunities_after: 0.0,
-                departures_before: if side == "lost" { deps[p] } else { 0 },
-                departures_after: if side == "gained" { deps[p] } else { 0 },
-                service: side,
-            });
+            let (db, da) = if side == "lost" { (deps[p], 0) } else { (0, deps[p]) };
+            station_rows.push(CompareStationRow::new(id.clone(), eng.tt.stop(eng.places.stops[p]).name.clone(), db, da, side));
         }
     }
     for r in &mut station_rows {
