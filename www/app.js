@@ -971,6 +971,11 @@ const views = {
     panel: $('view-stepfree'),
     load: async () => (await import('./views/stepfree.js')).initStepFreeView({ client, getSketch: () => state.sketch, say }),
   },
+  compare: {
+    tab: $('tab-compare'),
+    panel: $('view-compare'),
+    load: async () => (await import('./views/compare.js')).initCompareView({ client, getSketch: () => state.sketch, say }),
+  },
 };
 
 async function showView(name, focus) {

@@ -139,6 +139,13 @@ export class EngineClient {
   /** One file of the last step-free audit as CSV bytes: 'pairs', 'elements', 'completeness' or 'outages'. */
   stepfreeCsv(table) { return this.#call('stepfree_csv', { table }); }
   accessibilityElements() { return this.#call('accessibility_elements', {}); }
+  /** The version after of a comparison: a feed loaded beside the others, never merged. */
+  afterLoad(name, bytes) { return this.#call('after_load', { name, bytes }); }
+  afterClear() { return this.#call('after_clear', {}); }
+  /** Compares the loaded feeds (before) with the version after (CompareQuery fields). */
+  compare(query, onProgress) { return this.#call('compare', { query }, onProgress); }
+  /** One file of the last comparison as CSV bytes: 'pairs', 'stations', 'routes' or 'connections'. */
+  compareCsv(table) { return this.#call('compare_csv', { table }); }
   connectionJourney(date, arrEvent, depEvent) { return this.#call('connection_journey', { date, arr_event: arrEvent, dep_event: depEvent }); }
 
   /** A second engine in its own worker with the same feeds (for work spread over cores). */

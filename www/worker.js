@@ -7,9 +7,10 @@
 //                                               | table_begin | table_add | table_finish
 //                                               | interchange | interchange_pair | interchange_csv | connection_journey
 //                                               | stepfree | stepfree_csv | accessibility_elements
+//                                               | after_load | after_clear | compare | compare_csv
 //   worker → page  { type: 'ready' }           once the WASM module is instantiated
 //                  { type: 'init-failed', error }
-//                  { type: 'progress', id, stage, fraction }   during `load`, `interchange` and `stepfree`
+//                  { type: 'progress', id, stage, fraction }   during `load`, `interchange`, `stepfree` and `compare`
 //                  { type: 'result', id, ok: true, value }
 //                  { type: 'result', id, ok: false, error, fatal }
 // `error` is a plain object: a FeedIssue { file, line, field, value, message } when the engine
@@ -118,6 +119,24 @@ function run(op, args, id) {
     }
     case 'stepfree_csv':
       return engine.stepfree_csv(args.table);
+    case 'after_load': {
+      const bytes = args.bytes instanceof Uint8Array ? args.bytes : new Uint8Array(args.bytes);
+      return engine.after_load(args.name, bytes);
+    }
+    case 'after_clear':
+      return engine.after_clear();
+    case 'compare': {
+      let lastPost = 0;
+      const progress = (done, total) => {
+        const now = performance.now();
+        if (done < total && now - lastPost < 50) return;
+        lastPost = now;
+        self.postMessage({ type: 'progress', id, stage: `${done} of ${total} origins`, fraction: total ? done / total : 0 });
+      };
+      return engine.compare(args.query, progress);
+    }
+    case 'compare_csv':
+      return engine.compare_csv(args.table);
     case 'accessibility_elements':
       return engine.accessibility_elements();
     case 'connection_journey':

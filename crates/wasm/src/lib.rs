@@ -6,6 +6,7 @@ use serde::Serialize;
 use wasm_bindgen::prelude::*;
 
 use timeweave::analysis::window::{Destinations, Rows, TravelTimes};
+use timeweave::engine::compare::{ComparePairRow, CompareQuery, CompareReport, PairChange};
 use timeweave::engine::interchange::{ConnectionRow, InterchangeQuery};
 use timeweave::engine::stepfree::{StepFreePairRow, StepFreeQuery, StepFreeReport};
 use timeweave::engine::window::{WindowQuery, WindowSetting};
@@ -29,6 +30,10 @@ pub struct Engine {
     ix_rows: Vec<ConnectionRow>,
     /// The last step-free audit, for its downloads.
     sf: Option<(StepFreeReport, Vec<StepFreePairRow>)>,
+    /// The version after of a comparison: a timetable of its own, never merged with `core`.
+    after: Core,
+    /// The last comparison, for its downloads.
+    cmp: Option<(CompareReport, Vec<ComparePairRow>)>,
 }
 
 fn json_value<T: Serialize>(v: &T) -> Result<JsValue, JsValue> {
@@ -121,6 +126,8 @@ impl Engine {
             table: None,
             ix_rows: Vec::new(),
             sf: None,
+            after: Core::new(),
+            cmp: None,
         }
     }
 
@@ -442,6 +449,66 @@ impl Engine {
             "completeness" => timeweave_tables::rows_csv(Vec::new(), &r.completeness).map_err(err),
             "outages" => timeweave_tables::rows_csv(Vec::new(), &r.outages).map_err(err),
             other => Err(JsValue::from_str(&format!("no table {other:?}: pairs, elements, completeness or outages"))),
+        }
+    }
+
+    /// Loads one feed of the version after of a comparison (kept apart from the loaded feeds).
+    pub fn after_load(&mut self, name: &str, bytes: &[u8]) -> Result<JsValue, JsValue> {
+        match self.after.load_zip(name, bytes, &mut |_, _| {}) {
+            Ok(meta) => to_js(&report(meta)),
+            Err(e) => Err(to_js(&e.0)?),
+        }
+    }
+
+    /// Empties the version after.
+    pub fn after_clear(&mut self) {
+        self.after = Core::new();
+        self.cmp = None;
+    }
+
+    /// Compares the loaded feeds (before) with the version after (`CompareQuery` fields):
+    /// `{ report, pairs, pairs_total }` — the pairs all up to 5,000, else the changed ones first.
+    /// Kept for `compare_csv`. `progress(done, total)` after each origin.
+    pub fn compare(&mut self, query: JsValue, progress: Option<js_sys::Function>) -> Result<JsValue, JsValue> {
+        let q: CompareQuery = serde_wasm_bindgen::from_value(query).map_err(|e| JsValue::from_str(&format!("bad comparison: {e}")))?;
+        self.cmp = None;
+        let mut rows = Vec::new();
+        let report = timeweave::engine::compare::compare(&mut self.core, &mut self.after, &q, 1, &mut |done, total, chunk| {
+            rows.extend_from_slice(chunk);
+            tell(&progress, done, total);
+            true
+        })
+        .map_err(failure)?
+        .ok_or_else(|| JsValue::from_str("cancelled"))?;
+        const SHOWN: usize = 5000;
+        let changed = |r: &&ComparePairRow| !matches!(r.status, PairChange::Unchanged | PairChange::Unreachable);
+        let shown: Vec<&ComparePairRow> = rows.iter().filter(changed).chain(rows.iter().filter(|r| !changed(r))).take(SHOWN).collect();
+        #[derive(Serialize)]
+        struct Out<'a> {
+            report: &'a CompareReport,
+            pairs: Vec<&'a ComparePairRow>,
+            pairs_total: usize,
+        }
+        let v = json_value(&Out { report: &report, pairs: shown, pairs_total: rows.len() })?;
+        self.cmp = Some((report, rows));
+        Ok(v)
+    }
+
+    /// One file of the last comparison, as the CLI writes it: `pairs`, `stations`, `routes` or
+    /// `connections` (CSV bytes).
+    pub fn compare_csv(&self, table: &str) -> Result<Vec<u8>, JsValue> {
+        let (r, rows) = self.cmp.as_ref().ok_or_else(|| JsValue::from_str("no comparison yet"))?;
+        let err = |e: timeweave_tables::TableError| JsValue::from_str(&e.to_string());
+        match table {
+            "pairs" => {
+                let mut t = timeweave_tables::SerdeTable::new(Vec::new());
+                t.add(rows).map_err(err)?;
+                t.finish().map_err(err)
+            }
+            "stations" => timeweave_tables::rows_csv(Vec::new(), &r.stations).map_err(err),
+            "routes" => timeweave_tables::rows_csv(Vec::new(), &r.routes).map_err(err),
+            "connections" => timeweave_tables::rows_csv(Vec::new(), &r.connections).map_err(err),
+            other => Err(JsValue::from_str(&format!("no table {other:?}: pairs, stations, routes or connections"))),
         }
     }
 
