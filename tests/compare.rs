@@ -176,3 +176,14 @@ fn dates_outside_a_version_are_refused_naming_it() {
     let e = err(query("2025-06-10", "07:00-08:00"), &mut b, &mut a);
     assert!(e.starts_with("before version:"), "{e}");
 }
+
+#[test]
+fn chosen_destinations_limit_the_pairs_and_the_changes() {
+    let (mut b, mut a) = (two_lines(true).load(), two_lines(false).load());
+    let q = CompareQuery { destinations: Some(vec!["A3".into()]), ..query("2026-06-10", "07:00-08:00") };
+    let (r, rows) = run(&mut b, &mut a, &q);
+    assert!(rows.iter().all(|p| p.to_stop_id == "A3"), "{rows:?}");
+    assert_eq!(rows.len(), 5, "every other place to A3");
+    let a1 = r.stations.iter().find(|s| s.station == "A1").expect("A1");
+    assert_eq!((a1.destinations_both, a1.median_change_s), (1, Some(0.0)));
+}

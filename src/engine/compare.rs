@@ -42,6 +42,9 @@ pub struct CompareQuery {
     pub pairs: Option<String>,
     pub pair_list: Option<Vec<(String, String)>>,
     pub seed: Option<u64>,
+    /// With `all`: only these destinations (place ids), for every origin; the places' changes are
+    /// then taken over them.
+    pub destinations: Option<Vec<String>>,
     /// Cut-off of the cumulative opportunities, minutes; default 30.
     pub cutoff_min: Option<u32>,
     /// The headline's threshold, minutes; default 5.
@@ -413,8 +416,22 @@ pub fn compare(
         let n = common.len();
         match q.pairs.as_deref().unwrap_or("all") {
             "all" => {
+                let dests: Vec<usize> = match &q.destinations {
+                    None => (0..n).collect(),
+                    Some(ids) => {
+                        let mut v = Vec::new();
+                        for id in ids {
+                            let i = b.engine.resolve_place(id).map_err(|e| QueryError::BadOption(format!("destination {id:?}: {e}")))?;
+                            let k = *k_of
+                                .get(&i)
+                                .ok_or_else(|| QueryError::BadOption(format!("destination {id:?} is not a place of the after version")))?;
+                            v.push(k);
+                        }
+                        v
+                    }
+                };
                 for k in 0..n {
-                    by_origin.insert(k, (0..n).filter(|&j| j != k).collect());
+                    by_origin.insert(k, dests.iter().copied().filter(|&j| j != k).collect());
                 }
             }
             s => {

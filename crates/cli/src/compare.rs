@@ -19,7 +19,7 @@ Definitions:
   places are matched by stop_id across the versions; a place in one version only is listed as such (only_before, only_after), never guessed.
   travel time at a departure: as in `reach --window` (waiting at the origin counts); p50, p90: median and 90th percentile over the window's departures, seconds (linear interpolation between the closest ranks; empty when that share of departures has no journey).
   status: lost (reached at some departure before, at none after), gained (the reverse), unreachable (neither), else slower, faster or unchanged by the medians, to the second (a pair with a median in one version only is slower or faster accordingly).
-  stations.csv, per place: median_change_s = median over the destinations reached in both of (after - before median); opportunities = destinations weighted 1, each counted by its share of departures within --cutoff; departures = departures with pickup from the place's stops on the date; service = lost, gained, kept or none.
+  stations.csv, per place: median_change_s = median over the destinations (all, or --destinations) reached in both of (after - before median); opportunities = destinations weighted 1, each counted by its share of departures within --cutoff; departures = departures with pickup from the place's stops on the date; service = lost, gained, kept or none.
   routes.csv: trips of the date; first and last trip start (service-day HH:MM:SS); headway = the median gap between trip starts within the window in the route's busiest direction, seconds.
   connections.csv: the interchange audit of every station over the window in both versions, rows matched by station, arriving route and direction, arrival time, leaving route and direction; listed when made_to_missed, missed_to_made, new_near_miss, near_miss_gone, only_before or only_after.
   headline: the share of compared pairs more than 5 min slower (or faster) by median.";
@@ -34,6 +34,7 @@ pub struct Args<'a> {
     pub pairs: &'a str,
     pub seed: Option<u64>,
     pub cutoff: Option<u32>,
+    pub destinations: Option<String>,
     pub threads: Option<usize>,
     pub out: &'a Path,
 }
@@ -46,6 +47,7 @@ pub fn run(before: &mut Engine, after: &mut Engine, a: Args) -> Result<(), Strin
         step_min: a.step,
         seed: a.seed,
         cutoff_min: a.cutoff,
+        destinations: a.destinations.as_deref().map(|d| d.split(',').map(|x| x.trim().to_string()).filter(|x| !x.is_empty()).collect()),
         ..Default::default()
     };
     if a.pairs == "all" || a.pairs.starts_with("sample:") {

@@ -303,6 +303,9 @@ enum Command {
         /// Cut-off of the cumulative opportunities, minutes [default: 30].
         #[arg(long, value_name = "MIN")]
         cutoff: Option<u32>,
+        /// With --pairs all: only these destinations (ID,ID,...); each place's change is taken over them.
+        #[arg(long, value_name = "ID,ID")]
+        destinations: Option<String>,
         /// Threads [default: all cores].
         #[arg(long, value_name = "N")]
         threads: Option<usize>,
@@ -528,7 +531,7 @@ fn run(cli: Cli) -> Result<(), String> {
             };
             stepfree::run(&mut engine, a)
         }
-        Command::Compare { before, after, date, after_date, window, step, pairs, seed, cutoff, threads, out } => {
+        Command::Compare { before, after, date, after_date, window, step, pairs, seed, cutoff, destinations, threads, out } => {
             let mut b = load(&before, false)?;
             let mut a = load(&after, false)?;
             let args = compare::Args {
@@ -541,6 +544,7 @@ fn run(cli: Cli) -> Result<(), String> {
                 pairs: &pairs,
                 seed,
                 cutoff,
+                destinations,
                 threads,
                 out: &out,
             };
