@@ -206,3 +206,47 @@ export function windowQuery(p, fallbackPct) {
   if (max != null) q.max_duration_min = max;
   return q;
 }
+
+// ---------------------------------------------------------------- long work in a view
+
+/**
+ * Long engine work in a view, with its progress box (`ui.box`, `ui.progress`, `ui.progressText`),
+ * run button (`ui.run`, disabled meanwhile) and cancel button (`ui.cancel`, which restarts the
+ * engine worker, as cancelling a load does; then `onCancel`). Returns `run(first, work, done)`:
+ * `work(onProgress)` resolves to the result, `done(result, ms)` shows it; a cancelled run says
+ * so in `ui.summary`, an error goes to `fail`.
+ */
+export function longRun(ui, client, { what, say, fail, onCancel }) {
+  let cancelled = false;
+  ui.cancel.addEventListener('click', async () => {
+    cancelled = true;
+    ui.progressText.textContent = 'Cancelling…';
+    await client.cancel();
+    if (onCancel) onCancel();
+  });
+  return async (first, work, done) => {
+    cancelled = false;
+    ui.run.disabled = true;
+    ui.box.hidden = false;
+    ui.progress.value = 0;
+    ui.progressText.textContent = first;
+    const t0 = performance.now();
+    try {
+      const r = await work((stage, fraction) => {
+        ui.progress.value = fraction;
+        ui.progressText.textContent = stage;
+      });
+      done(r, performance.now() - t0);
+    } catch (e) {
+      if (cancelled) {
+        ui.summary.textContent = `Cancelled: nothing ${what.done}.`;
+        say(`The ${what.name} was cancelled.`);
+      } else {
+        fail(e.message);
+      }
+    } finally {
+      ui.run.disabled = false;
+      ui.box.hidden = true;
+    }
+  };
+}

@@ -93,13 +93,7 @@ function run(op, args, id) {
     case 'table_finish':
       return engine.table_finish();
     case 'interchange': {
-      let lastPost = 0;
-      const progress = (done, total) => {
-        const now = performance.now();
-        if (done < total && now - lastPost < 50) return;
-        lastPost = now;
-        self.postMessage({ type: 'progress', id, stage: `${done} of ${total} stations`, fraction: done / total });
-      };
+      const progress = counted(id, 'stations');
       return engine.interchange(args.query, progress);
     }
     case 'interchange_pair':
@@ -107,13 +101,7 @@ function run(op, args, id) {
     case 'interchange_csv':
       return engine.interchange_csv(args.query, args.table);
     case 'stepfree': {
-      let lastPost = 0;
-      const progress = (done, total) => {
-        const now = performance.now();
-        if (done < total && now - lastPost < 50) return;
-        lastPost = now;
-        self.postMessage({ type: 'progress', id, stage: `${done} of ${total} origins`, fraction: total ? done / total : 0 });
-      };
+      const progress = counted(id, 'origins');
       const alerts = args.alerts ? new Uint8Array(args.alerts) : undefined;
       return engine.stepfree(args.query, alerts, progress);
     }
@@ -126,13 +114,7 @@ function run(op, args, id) {
     case 'after_clear':
       return engine.after_clear();
     case 'compare': {
-      let lastPost = 0;
-      const progress = (done, total) => {
-        const now = performance.now();
-        if (done < total && now - lastPost < 50) return;
-        lastPost = now;
-        self.postMessage({ type: 'progress', id, stage: `${done} of ${total} origins`, fraction: total ? done / total : 0 });
-      };
+      const progress = counted(id, 'origins');
       return engine.compare(args.query, progress);
     }
     case 'compare_csv':
@@ -144,6 +126,17 @@ function run(op, args, id) {
     default:
       throw new Error(`unknown request "${op}"`);
   }
+}
+
+/** A progress callback for counted work ("12 of 40 stations"), posting at most every 50 ms. */
+function counted(id, unit) {
+  let lastPost = 0;
+  return (done, total) => {
+    const now = performance.now();
+    if (done < total && now - lastPost < 50) return;
+    lastPost = now;
+    self.postMessage({ type: 'progress', id, stage: `${done} of ${total} ${unit}`, fraction: total ? done / total : 0 });
+  };
 }
 
 /** Turns Maps into plain objects and BigInts into numbers, so the page reads one shape. */

@@ -4,30 +4,15 @@
 // colours places by their change with a legend, and the places only the ferry served are named.
 // No request leaves the origin.
 
-import { test, before, after } from 'node:test';
+import { test } from 'node:test';
 import assert from 'node:assert/strict';
 import fs from 'node:fs';
-import os from 'node:os';
 import path from 'node:path';
 import { execFile } from 'node:child_process';
 import { promisify } from 'node:util';
 import * as h from './harness.mjs';
 
-let server;
-let browser;
-let dir;
-
-before(async () => {
-  server = await h.startServer();
-  browser = await h.launchBrowser();
-  dir = fs.mkdtempSync(path.join(os.tmpdir(), 'tw-cmp-'));
-});
-
-after(async () => {
-  if (browser) await browser.close();
-  if (server) await server.stop();
-  if (dir) fs.rmSync(dir, { recursive: true, force: true });
-});
+const s = h.suite('tw-cmp-');
 
 /** The demo city's files without route `route`'s trips, as a zip. */
 function cityWithout(route) {
@@ -51,16 +36,16 @@ async function download(page, selector) {
 
 test('the demo without its ferry: the page writes the CLI files and names the places that lose service', async () => {
   const zip = cityWithout('F1');
-  const afterZip = path.join(dir, 'oskerveld-city.zip');
+  const afterZip = path.join(s.dir, 'oskerveld-city.zip');
   fs.writeFileSync(afterZip, zip);
-  const out = path.join(dir, 'cli');
+  const out = path.join(s.dir, 'cli');
   const rail = 'www/feeds/oskerveld-rail.zip';
   await promisify(execFile)(h.BIN, ['compare', '--before', 'www/feeds/oskerveld-city.zip', '--before', rail, '--after', afterZip, '--after', rail, '--date', '2026-12-02', '--window', '07:00-09:00', '--out', out], { cwd: h.REPO });
   const cli = (name) => fs.readFileSync(path.join(out, name), 'utf8');
 
-  const rec = await h.openPage(browser);
+  const rec = await h.openPage(s.browser);
   const { page } = rec;
-  await h.openApp(page, server.url);
+  await h.openApp(page, s.server.url);
   await h.loadDemo(page);
   await page.click('#tab-compare');
   await page.waitForSelector('html[data-view="compare"]');
@@ -84,7 +69,7 @@ test('the demo without its ferry: the page writes the CLI files and names the pl
   assert.match(await page.textContent('#cmp-sketch title'), /coloured by the median change/);
   assert.match(await page.textContent('#cmp-legend'), /over 10 min slower/);
   await h.shot(page, 'compare');
-  assert.deepEqual(h.offOrigin(rec.requests, new URL(server.url).origin), []);
+  assert.deepEqual(h.offOrigin(rec.requests, new URL(s.server.url).origin), []);
   assert.deepEqual(rec.errors, []);
   await rec.context.close();
 });

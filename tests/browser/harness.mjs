@@ -2,6 +2,8 @@
 // Chromium driven by playwright-core, a recorder of every request the page (and its worker)
 // makes, and a tiny stored-entry zip writer so tests can build GTFS zips byte by byte.
 
+import os from 'node:os';
+import { before, after } from 'node:test';
 import { spawn, execFile } from 'node:child_process';
 import { createServer } from 'node:net';
 import fs from 'node:fs';
@@ -297,4 +299,23 @@ export function makeZip(files) {
 /** Picks files for the page's file input by name and bytes. */
 export async function pickFiles(page, files) {
   await page.setInputFiles('#feed-files', files.map(([name, buffer]) => ({ name, mimeType: 'application/zip', buffer })));
+}
+
+/**
+ * The shared setup of a test file: a server, a browser and (with `tmpPrefix`) a scratch folder,
+ * started before its tests and stopped after them; read them from the returned object.
+ */
+export function suite(tmpPrefix) {
+  const s = { server: null, browser: null, dir: null };
+  before(async () => {
+    s.server = await startServer();
+    s.browser = await launchBrowser();
+    if (tmpPrefix) s.dir = fs.mkdtempSync(path.join(os.tmpdir(), tmpPrefix));
+  });
+  after(async () => {
+    if (s.browser) await s.browser.close();
+    if (s.server) await s.server.stop();
+    if (s.dir) fs.rmSync(s.dir, { recursive: true, force: true });
+  });
+  return s;
 }

@@ -3,39 +3,24 @@
 // files the native CLI's `interchange` writes (the page's downloads must be the same bytes). No
 // request leaves the page's origin.
 
-import { test, before, after } from 'node:test';
+import { test } from 'node:test';
 import assert from 'node:assert/strict';
 import fs from 'node:fs';
-import os from 'node:os';
 import path from 'node:path';
 import { execFile } from 'node:child_process';
 import { promisify } from 'node:util';
 import * as h from './harness.mjs';
 
-let server;
-let browser;
-let dir;
-
-before(async () => {
-  server = await h.startServer();
-  browser = await h.launchBrowser();
-  dir = fs.mkdtempSync(path.join(os.tmpdir(), 'tw-ix-'));
-});
-
-after(async () => {
-  if (browser) await browser.close();
-  if (server) await server.stop();
-  if (dir) fs.rmSync(dir, { recursive: true, force: true });
-});
+const s = h.suite('tw-ix-');
 
 const FEEDS = ['oskerveld-city', 'oskerveld-rail'].flatMap((f) => ['--feed', `www/feeds/${f}.zip`]);
 
 /** Runs `timeweave interchange` and returns the three files' texts. */
 async function native(station, name) {
-  const out = path.join(dir, `${name}.csv`);
+  const out = path.join(s.dir, `${name}.csv`);
   await promisify(execFile)(h.BIN, ['interchange', ...FEEDS, '--date', '2026-12-02', '--station', station, '--window', '07:00-09:00', '--out', out], { cwd: h.REPO });
   const read = (p) => fs.readFileSync(p, 'utf8');
-  return { rows: read(out), pairs: read(path.join(dir, `${name}.pairs.csv`)), stations: read(path.join(dir, `${name}.stations.csv`)) };
+  return { rows: read(out), pairs: read(path.join(s.dir, `${name}.pairs.csv`)), stations: read(path.join(s.dir, `${name}.stations.csv`)) };
 }
 
 /** Parses simple CSV (no quoted commas in these files) into objects. */
@@ -47,8 +32,8 @@ function records(text) {
 
 /** A page with the demo city loaded and the connections view shown. */
 async function openView() {
-  const rec = await h.openPage(browser);
-  await h.openApp(rec.page, server.url);
+  const rec = await h.openPage(s.browser);
+  await h.openApp(rec.page, s.server.url);
   await h.loadDemo(rec.page);
   await rec.page.click('#tab-interchange');
   await rec.page.waitForSelector('html[data-view="interchange"]');
@@ -101,7 +86,7 @@ test('one station: the grid, time line, connections and downloads agree with the
   // The downloads are the CLI's files, byte for byte.
   assert.equal(await download(page, '#ix-csv-rows'), cli.rows);
   assert.equal(await download(page, '#ix-csv-pairs'), cli.pairs);
-  assert.deepEqual(h.offOrigin(rec.requests, new URL(server.url).origin), []);
+  assert.deepEqual(h.offOrigin(rec.requests, new URL(s.server.url).origin), []);
   assert.deepEqual(rec.errors, []);
   await rec.context.close();
 });
@@ -131,7 +116,7 @@ test('every station: the ranking and the sketch sized by near misses agree with 
   await page.fill('#ix-horizon', '');
   await page.click('#ix-table tbody tr:first-child');
   await page.waitForSelector('#ix-grid .ix-cell');
-  assert.deepEqual(h.offOrigin(rec.requests, new URL(server.url).origin), []);
+  assert.deepEqual(h.offOrigin(rec.requests, new URL(s.server.url).origin), []);
   assert.deepEqual(rec.errors, []);
   await rec.context.close();
 });

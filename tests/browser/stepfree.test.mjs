@@ -3,35 +3,20 @@
 // outage and seed; the report carries the caution on screen and in print, marks the elements to
 // fix first on the sketch, and refuses bad input with its reason. No request leaves the origin.
 
-import { test, before, after } from 'node:test';
+import { test } from 'node:test';
 import assert from 'node:assert/strict';
 import fs from 'node:fs';
-import os from 'node:os';
 import path from 'node:path';
 import { execFile } from 'node:child_process';
 import { promisify } from 'node:util';
 import * as h from './harness.mjs';
 
-let server;
-let browser;
-let dir;
-
-before(async () => {
-  server = await h.startServer();
-  browser = await h.launchBrowser();
-  dir = fs.mkdtempSync(path.join(os.tmpdir(), 'tw-sf-'));
-});
-
-after(async () => {
-  if (browser) await browser.close();
-  if (server) await server.stop();
-  if (dir) fs.rmSync(dir, { recursive: true, force: true });
-});
+const s = h.suite('tw-sf-');
 
 const FEEDS = ['oskerveld-city', 'oskerveld-rail'].flatMap((f) => ['--feed', `www/feeds/${f}.zip`]);
 
 async function native(extra) {
-  const out = path.join(dir, `run-${Math.random().toString(36).slice(2)}`);
+  const out = path.join(s.dir, `run-${Math.random().toString(36).slice(2)}`);
   await promisify(execFile)(h.BIN, ['stepfree', ...FEEDS, '--date', '2026-12-02', '--window', '07:00-08:00', '--pairs', 'sample:300', '--seed', '3', ...extra, '--out', out], { cwd: h.REPO });
   return (name) => fs.readFileSync(path.join(out, name), 'utf8');
 }
@@ -44,9 +29,9 @@ async function download(page, selector) {
 test('the audit in the page writes the CLI files, with the outage of a lift and the caution in print', async () => {
   const plain = await native([]);
   const lift = await native(['--outage', 'pathway:PW_P1_ELEVATOR']);
-  const rec = await h.openPage(browser);
+  const rec = await h.openPage(s.browser);
   const { page } = rec;
-  await h.openApp(page, server.url);
+  await h.openApp(page, s.server.url);
   await h.loadDemo(page);
   await page.click('#tab-stepfree');
   await page.waitForSelector('html[data-view="stepfree"]');
@@ -76,15 +61,15 @@ test('the audit in the page writes the CLI files, with the outage of a lift and 
   assert.equal(await page.isVisible('#sf-elements table'), true);
   await page.emulateMedia({ media: 'screen' });
   await h.shot(page, 'stepfree-report');
-  assert.deepEqual(h.offOrigin(rec.requests, new URL(server.url).origin), []);
+  assert.deepEqual(h.offOrigin(rec.requests, new URL(s.server.url).origin), []);
   assert.deepEqual(rec.errors, []);
   await rec.context.close();
 });
 
 test('bad pairs and unknown outages are refused with their reason', async () => {
-  const rec = await h.openPage(browser);
+  const rec = await h.openPage(s.browser);
   const { page } = rec;
-  await h.openApp(page, server.url);
+  await h.openApp(page, s.server.url);
   await h.loadDemo(page);
   await page.click('#tab-stepfree');
   await page.waitForSelector('html[data-view="stepfree"]');

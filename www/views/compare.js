@@ -5,7 +5,7 @@
 // and the tables of places, routes, connections and pairs; its files are the CLI's.
 
 import { drawSketch, el } from '../sketch.js';
-import { sortableTable, download, numberOrNull, fmtMin } from '../charts.js';
+import { sortableTable, download, numberOrNull, fmtMin, longRun } from '../charts.js';
 
 const $ = (id) => document.getElementById(id);
 
@@ -50,12 +50,13 @@ export function initCompareView({ client, getSketch, say }) {
   /** The version after: [{ name, bytes }], kept here so a restarted engine can be given it again. */
   let after = [];
   let last = null;
-  let cancelled = false;
 
   const fail = (text) => {
     ui.error.textContent = text;
     ui.error.hidden = false;
   };
+
+  const run = longRun(ui, client, { what: { done: 'compared', name: 'comparison' }, say, fail });
 
   ui.files.addEventListener('change', async () => {
     after = await Promise.all([...ui.files.files].map(async (f) => ({ name: f.name.replace(/\.zip$/i, ''), bytes: new Uint8Array(await f.arrayBuffer()) })));
@@ -83,38 +84,14 @@ export function initCompareView({ client, getSketch, say }) {
     }
     const cut = numberOrNull($('cmp-cut'));
     if (cut != null) q.cutoff_min = cut;
-    cancelled = false;
-    ui.run.disabled = true;
-    ui.box.hidden = false;
-    ui.progress.value = 0;
-    ui.progressText.textContent = 'Loading the version after…';
-    const t0 = performance.now();
-    try {
+    await run('Loading the version after…', async (onProgress) => {
       await loadAfter();
-      const r = await client.compare(q, (stage, fraction) => {
-        ui.progress.value = fraction;
-        ui.progressText.textContent = stage;
-      });
-      last = { query: q, ms: performance.now() - t0, ...r };
+      return client.compare(q, onProgress);
+    }, (r, ms) => {
+      last = { query: q, ms, ...r };
       show(last);
       say(ui.summary.textContent);
-    } catch (e) {
-      if (cancelled) {
-        ui.summary.textContent = 'Cancelled: nothing compared.';
-        say('The comparison was cancelled.');
-      } else {
-        fail(e.message);
-      }
-    } finally {
-      ui.run.disabled = false;
-      ui.box.hidden = true;
-    }
-  });
-
-  ui.cancel.addEventListener('click', async () => {
-    cancelled = true;
-    ui.progressText.textContent = 'Cancelling…';
-    await client.cancel();
+    });
   });
 
   function show(res) {

@@ -5,7 +5,7 @@
 // own (a print style sheet) with the caution; the files are the CLI's, from the engine's writer.
 
 import { drawSketch, el, node } from '../sketch.js';
-import { sortableTable, download, numberOrNull, fmtMin } from '../charts.js';
+import { sortableTable, download, numberOrNull, fmtMin, longRun } from '../charts.js';
 
 const $ = (id) => document.getElementById(id);
 // Okabe–Ito vermillion for blocking elements, ranked by number.
@@ -35,13 +35,13 @@ export function initStepFreeView({ client, getSketch, say }) {
     csv: { pairs: $('sf-csv-pairs'), elements: $('sf-csv-elements'), completeness: $('sf-csv-completeness'), outages: $('sf-csv-outages') },
   };
   let last = null;
-  let cancelled = false;
   let picks = [];
 
   const fail = (text) => {
     ui.error.textContent = text;
     ui.error.hidden = false;
   };
+  const run = longRun(ui, client, { what: { done: 'audited', name: 'step-free audit' }, say, fail, onCancel: () => fillPicker() });
   const pairsMode = () => ui.form.querySelector('input[name="sf-pairs"]:checked').value;
   const sync = () => { ui.listField.hidden = pairsMode() !== 'list'; };
   ui.form.addEventListener('change', (e) => { if (e.target.name === 'sf-pairs') sync(); });
@@ -104,38 +104,11 @@ export function initStepFreeView({ client, getSketch, say }) {
     }
     const file = $('sf-alerts').files[0];
     const alerts = file ? new Uint8Array(await file.arrayBuffer()) : null;
-    cancelled = false;
-    ui.run.disabled = true;
-    ui.box.hidden = false;
-    ui.progress.value = 0;
-    ui.progressText.textContent = 'Starting…';
-    const t0 = performance.now();
-    try {
-      const r = await client.stepfree(q, alerts, (stage, fraction) => {
-        ui.progress.value = fraction;
-        ui.progressText.textContent = stage;
-      });
-      last = { query: q, ms: performance.now() - t0, ...r };
+    await run('Starting…', (onProgress) => client.stepfree(q, alerts, onProgress), (r, ms) => {
+      last = { query: q, ms, ...r };
       show(last);
       say(ui.summary.textContent);
-    } catch (e) {
-      if (cancelled) {
-        ui.summary.textContent = 'Cancelled: nothing audited.';
-        say('The step-free audit was cancelled.');
-      } else {
-        fail(e.message);
-      }
-    } finally {
-      ui.run.disabled = false;
-      ui.box.hidden = true;
-    }
-  });
-
-  ui.cancel.addEventListener('click', async () => {
-    cancelled = true;
-    ui.progressText.textContent = 'Cancelling…';
-    await client.cancel();
-    fillPicker();
+    });
   });
 
   const pct = (a, b) => (b ? `${((100 * a) / b).toFixed(1)} %` : '—');

@@ -90,6 +90,12 @@ fn failure(e: timeweave::error::QueryError) -> JsValue {
     to_js(&QueryFailure { message: e.to_string(), detail: e }).unwrap_or_else(|e| e)
 }
 
+/// Pair rows a page shows: all up to 5,000, else those `first` picks before the others, 5,000 in all.
+fn first_shown<T>(rows: &[T], first: impl Fn(&T) -> bool) -> Vec<&T> {
+    const SHOWN: usize = 5000;
+    rows.iter().filter(|r| first(r)).chain(rows.iter().filter(|r| !first(r))).take(SHOWN).collect()
+}
+
 /// Tells a page's `progress(done, total)` callback, if it gave one.
 fn tell(progress: &Option<js_sys::Function>, done: usize, total: usize) {
     if let Some(f) = progress {
@@ -412,16 +418,10 @@ impl Engine {
             })
             .map_err(failure)?
             .ok_or_else(|| JsValue::from_str("cancelled"))?;
-        const SHOWN: usize = 5000;
-        let shown: Vec<&StepFreePairRow> = if rows.len() <= SHOWN {
-            rows.iter().collect()
-        } else {
-            use timeweave::engine::stepfree::OutageEffect;
-            let first = |r: &&StepFreePairRow| {
-                r.status == timeweave::analysis::stepfree::PairStatus::Blocked || r.outage_status == Some(OutageEffect::Lost)
-            };
-            rows.iter().filter(first).chain(rows.iter().filter(|r| !first(r))).take(SHOWN).collect()
-        };
+        use timeweave::engine::stepfree::OutageEffect;
+        let shown = first_shown(&rows, |r| {
+            r.status == timeweave::analysis::stepfree::PairStatus::Blocked || r.outage_status == Some(OutageEffect::Lost)
+        });
         #[derive(Serialize)]
         struct Out<'a> {
             report: &'a StepFreeReport,
@@ -480,9 +480,7 @@ impl Engine {
         })
         .map_err(failure)?
         .ok_or_else(|| JsValue::from_str("cancelled"))?;
-        const SHOWN: usize = 5000;
-        let changed = |r: &&ComparePairRow| !matches!(r.status, PairChange::Unchanged | PairChange::Unreachable);
-        let shown: Vec<&ComparePairRow> = rows.iter().filter(changed).chain(rows.iter().filter(|r| !changed(r))).take(SHOWN).collect();
+        let shown = first_shown(&rows, |r| !matches!(r.status, PairChange::Unchanged | PairChange::Unreachable));
         #[derive(Serialize)]
         struct Out<'a> {
             report: &'a CompareReport,
