@@ -183,6 +183,11 @@ enum Command {
         /// Threads [default: all cores].
         #[arg(long, value_name = "N")]
         threads: Option<usize>,
+        /// Only shard I of N of the origins: the I-th of N consecutive runs of nearly equal
+        /// length, in origin order (all places in index order, or as given), so N runs of the
+        /// command with 1/N … N/N together write every row once.
+        #[arg(long, value_name = "I/N")]
+        shard: Option<String>,
     },
     /// The interchange audit of a station (or all): for every arrival and every other route and
     /// direction leaving there, whether the connection is made, missed and by how much, and the wait.
@@ -474,11 +479,12 @@ fn run(cli: Cli) -> Result<(), String> {
             }
             Ok(())
         }
-        Command::Matrix { feeds, date, window: w, origins, destinations, step_free, opportunities, out, threads } => {
+        Command::Matrix { feeds, date, window: w, origins, destinations, step_free, opportunities, out, threads, shard } => {
             let span = w.window.clone().ok_or("error: give --window HH:MM-HH:MM")?;
             let mut engine = load(&feeds.feeds, false)?;
             let q = window::query(date, &w, span, step_free_of(step_free), &[5.0, 25.0, 50.0, 75.0, 95.0])?;
             let a = window::MatrixArgs {
+                shard: shard.as_deref(),
                 origins: &origins,
                 destinations: &destinations,
                 opportunities: opportunities.as_deref(),

@@ -245,7 +245,26 @@ pub fn bar(n: usize, what: &str) -> indicatif::ProgressBar {
     bar
 }
 
+/// "I/N" → (I, N), 1 ≤ I ≤ N.
+pub fn parse_shard(text: &str) -> Result<(usize, usize), String> {
+    let bad = || format!("error: --shard {text:?}: give I/N with 1 <= I <= N (shard I of N)");
+    let (i, n) = text.split_once('/').ok_or_else(bad)?;
+    let (i, n): (usize, usize) = (i.trim().parse().map_err(|_| bad())?, n.trim().parse().map_err(|_| bad())?);
+    if i == 0 || n == 0 || i > n {
+        return Err(bad());
+    }
+    Ok((i, n))
+}
+
+/// Shard `i` of `n` (1-based) of the origins: the `i`-th of `n` consecutive runs of nearly equal
+/// length, in the order given, so the shards together are the origins, each once.
+pub fn shard(origins: &[usize], i: usize, n: usize) -> &[usize] {
+    let len = origins.len();
+    &origins[(i - 1) * len / n..i * len / n]
+}
+
 pub struct MatrixArgs<'a> {
+    pub shard: Option<&'a str>,
     pub origins: &'a str,
     pub destinations: &'a str,
     pub opportunities: Option<&'a Path>,
@@ -258,7 +277,11 @@ pub fn matrix(engine: &mut Engine, q: &WindowQuery, a: MatrixArgs) -> Result<(),
     let format = Format::of_name(&a.out.to_string_lossy())
         .ok_or_else(|| format!("error: --out {}: give a file name ending in .csv or .parquet", a.out.display()))?;
     let setting = engine.window_setting(q).map_err(|e| format!("error: {e}"))?;
-    let origins = resolve(engine, id_list(a.origins, "origins")?)?.unwrap_or_else(|| (0..engine.places.len()).collect());
+    let mut origins = resolve(engine, id_list(a.origins, "origins")?)?.unwrap_or_else(|| (0..engine.places.len()).collect());
+    if let Some(spec) = a.shard {
+        let (i, n) = parse_shard(spec)?;
+        origins = shard(&origins, i, n).to_vec();
+    }
     let report = resolve(engine, id_list(a.destinations, "destinations")?)?;
     let weights = match a.opportunities {
         Some(p) if setting.spec.cutoff_s.is_none() => {

@@ -127,3 +127,41 @@ fn opportunities_and_reach_over_a_window_are_written_beside() {
     let (ok, _, err) = run(&["reach", "--from", "Quistenford"]);
     assert!(!ok && err.contains("give --at HH:MM"), "{err}");
 }
+
+#[test]
+fn shards_together_write_the_whole_matrix_once() {
+    // The shards of a split (1/3, 2/3, 3/3) hold every row of the unsplit matrix once.
+    let dir = tempfile::tempdir().unwrap();
+    let common = ["--window", "07:00-07:30", "--step", "5"];
+    let whole = dir.path().join("whole.csv");
+    let mut a = vec!["matrix"];
+    a.extend(common);
+    a.extend(["--out", whole.to_str().unwrap()]);
+    let (ok, _, err) = run(&a);
+    assert!(ok, "{err}");
+    let (head, all) = csv_rows(&whole);
+    let mut parts = Vec::new();
+    for k in 1..=3 {
+        let out = dir.path().join(format!("part{k}.csv"));
+        let shard = format!("{k}/3");
+        let mut a = vec!["matrix"];
+        a.extend(common);
+        a.extend(["--shard", shard.as_str(), "--out", out.to_str().unwrap()]);
+        let (ok, _, err) = run(&a);
+        assert!(ok, "{err}");
+        let (h, rows) = csv_rows(&out);
+        assert_eq!(h, head);
+        assert!(!rows.is_empty(), "shard {k} has rows");
+        parts.extend(rows);
+    }
+    assert_eq!(parts, all, "the shards in order are the whole file");
+    for bad in ["0/3", "4/3", "x"] {
+        let out = dir.path().join("bad.csv");
+        let mut a = vec!["matrix"];
+        a.extend(common);
+        a.extend(["--shard", bad, "--out", out.to_str().unwrap()]);
+        let (ok, _, err) = run(&a);
+        assert!(!ok && err.contains("--shard"), "{bad}: {err}");
+        assert!(!out.exists());
+    }
+}
