@@ -40,6 +40,17 @@ pub enum Status {
     NotPossible,
 }
 
+impl Status {
+    /// The name the files and JSON use.
+    pub fn name(self) -> &'static str {
+        match self {
+            Status::Made => "made",
+            Status::None => "none",
+            Status::NotPossible => "not_possible",
+        }
+    }
+}
+
 /// A departing route and direction.
 #[derive(Debug, Clone, PartialEq, Eq, PartialOrd, Ord, Hash)]
 pub struct Line {

@@ -100,3 +100,36 @@ impl Places {
         self.place_of(tt, parent)
     }
 }
+
+/// SplitMix64 (Steele, Lea, Flood 2014): seeded, the same draws on every run.
+pub fn splitmix(x: &mut u64) -> u64 {
+    *x = x.wrapping_add(0x9E37_79B9_7F4A_7C15);
+    let mut z = *x;
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^ (z >> 31)
+}
+
+/// The pairs of a `sample:N` request over `n` places: N distinct ordered pairs of different
+/// places drawn with `seed`. `of` ends the message of a bad N ("the pairs of {n} places{of}").
+pub fn sample_pairs(spec: &str, n: usize, seed: u64, of: &str) -> Result<Vec<(usize, usize)>, String> {
+    let k: u64 = spec
+        .strip_prefix("sample:")
+        .and_then(|k| k.parse().ok())
+        .ok_or_else(|| format!("pairs {spec:?}: give all, sample:N or a list of pairs"))?;
+    let total = (n as u64) * (n as u64).saturating_sub(1);
+    if k == 0 || k > total {
+        return Err(format!("sample of {k} pairs: give 1 to {total} (the pairs of {n} places{of})"));
+    }
+    let mut seen = std::collections::HashSet::new();
+    let mut out = Vec::with_capacity(k as usize);
+    let mut x = seed;
+    while (out.len() as u64) < k {
+        let a = (splitmix(&mut x) % n as u64) as usize;
+        let b = (splitmix(&mut x) % n as u64) as usize;
+        if a != b && seen.insert((a, b)) {
+            out.push((a, b));
+        }
+    }
+    Ok(out)
+}

@@ -50,6 +50,17 @@ pub enum PairStatus {
     NoJourney,
 }
 
+impl PairStatus {
+    /// The name the files and JSON use.
+    pub fn name(self) -> &'static str {
+        match self {
+            PairStatus::StepFree => "step_free",
+            PairStatus::Blocked => "blocked",
+            PairStatus::NoJourney => "no_journey",
+        }
+    }
+}
+
 /// One pair, both profiles.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct PairTimes {

@@ -51,17 +51,25 @@ pub struct PairStats {
 /// The percentile `p` (0–100) of ascending `sorted` by linear interpolation between the closest
 /// ranks; `NONE` values count as infinitely long.
 pub fn percentile(sorted: &[u32], p: f64) -> Option<f64> {
-    if sorted.is_empty() {
+    interpolate(sorted.len(), p, |i| (sorted[i] != NONE).then_some(sorted[i] as f64))
+}
+
+/// [`percentile`] of ascending seconds that may be negative or fractional (changes of a median).
+pub fn percentile_f64(sorted: &[f64], p: f64) -> Option<f64> {
+    interpolate(sorted.len(), p, |i| Some(sorted[i]))
+}
+
+/// Linear interpolation between the closest ranks (Hyndman–Fan definition 7) over `n` ascending
+/// values read by `at` (`None`: infinitely long, so no value).
+fn interpolate(n: usize, p: f64, at: impl Fn(usize) -> Option<f64>) -> Option<f64> {
+    if n == 0 {
         return None;
     }
-    let rank = p / 100.0 * (sorted.len() - 1) as f64;
+    let rank = p / 100.0 * (n - 1) as f64;
     let lo = rank.floor() as usize;
-    let hi = rank.ceil() as usize;
-    let (a, b) = (sorted[lo], sorted[hi.min(sorted.len() - 1)]);
-    if a == NONE || b == NONE {
-        return None;
-    }
-    Some(a as f64 + (b as f64 - a as f64) * (rank - lo as f64))
+    let hi = (rank.ceil() as usize).min(n - 1);
+    let (a, b) = (at(lo)?, at(hi)?);
+    Some(a + (b - a) * (rank - lo as f64))
 }
 
 /// Summarises one pair's travel times (one per departure, `NONE` where none); sorts `times`.

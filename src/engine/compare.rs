@@ -21,7 +21,8 @@ use serde::{Deserialize, Serialize};
 use super::interchange::{ConnectionRow, InterchangeQuery};
 use super::window::{WindowQuery, WindowSetting};
 use super::Engine;
-use crate::analysis::window::{percentile, TravelTimes, WindowRun, NONE};
+use crate::analysis::places::sample_pairs;
+use crate::analysis::window::{percentile, percentile_f64, TravelTimes, WindowRun, NONE};
 use crate::error::QueryError;
 use crate::route::search::SearchState;
 
@@ -225,16 +226,9 @@ pub struct CompareReport {
     pub only_after: Vec<String>,
 }
 
-/// Each version's side of a comparison: its engine's window setting and what it is called.
-struct Side<'a> {
-    name: &'static str,
-    engine: &'a mut Engine,
-}
-
-impl Side<'_> {
-    fn err(&self, e: QueryError) -> QueryError {
-        QueryError::BadOption(format!("{} version: {e}", self.name))
-    }
+/// A bad value of one version, named.
+fn in_version(name: &str, e: QueryError) -> QueryError {
+    QueryError::BadOption(format!("{name} version: {e}"))
 }
 
 /// Place ids of an engine, in place order.
@@ -244,16 +238,13 @@ fn place_ids(e: &Engine) -> Vec<String> {
 
 /// Departures (with pickup) from each place's stops on the network built.
 fn place_departures(e: &Engine) -> Vec<u32> {
-    use crate::graph::LAST_OF_TRIP;
-    use crate::timetable::{StopIdx, NO_PICKUP};
+    use crate::timetable::StopIdx;
     let net = e.built().expect("network built");
     let mut out = vec![0u32; e.places.len()];
-    for s in 0..e.tt.stops.len() {
-        let Some(p) = e.places.place_of(&e.tt, StopIdx(s as u32)) else { continue };
-        let n = (net.stop_first[s]..net.stop_first[s + 1])
-            .filter(|&pos| net.flags(net.by_stop[pos as usize] as usize) & (NO_PICKUP | LAST_OF_TRIP) == 0)
-            .count();
-        out[p] += n as u32;
+    for s in (0..e.tt.stops.len() as u32).map(StopIdx) {
+        if let Some(p) = e.places.place_of(&e.tt, s) {
+            out[p] += crate::analysis::interchange::departures(net, &[s]).len() as u32;
+        }
     }
     out
 }
@@ -317,16 +308,6 @@ fn conn_key(r: &ConnectionRow) -> ConnKey {
     )
 }
 
-fn status_text(r: &ConnectionRow) -> String {
-    use crate::analysis::interchange::Status;
-    match r.status {
-        Status::Made => "made",
-        Status::None => "none",
-        Status::NotPossible => "not_possible",
-    }
-    .to_string()
-}
-
 /// Compares `before` and `after` (each an engine of its own feeds), handing the pairs to
 /// `each(done, total, rows)` origin by origin; `each` returning false cancels (`Ok(None)`).
 /// Every bad value is reported, naming the version, before any work.
@@ -337,11 +318,9 @@ pub fn compare(
     threads: usize,
     each: &mut dyn FnMut(usize, usize, &[ComparePairRow]) -> bool,
 ) -> Result<Option<CompareReport>, QueryError> {
-    let b = Side { name: "before", engine: before };
-    let a = Side { name: "after", engine: after };
-    for s in [&b, &a] {
-        if s.engine.tt.feeds.is_empty() {
-            return Err(s.err(QueryError::NoFeed));
+    for (name, e) in [("before", &*before), ("after", &*after)] {
+        if e.tt.feeds.is_empty() {
+            return Err(in_version(name, QueryError::NoFeed));
         }
     }
     let after_date = q.after_date.clone().unwrap_or_else(|| q.date.clone());
@@ -354,7 +333,7 @@ pub fn compare(
         ..Default::default()
     };
     if q.after_date.is_none() {
-        if let (Some((b0, b1)), Some((a0, a1))) = (b.engine.tt.date_range(), a.engine.tt.date_range()) {
+        if let (Some((b0, b1)), Some((a0, a1))) = (before.tt.date_range(), after.tt.date_range()) {
             if b1 < a0 || a1 < b0 {
                 return Err(QueryError::BadOption(format!(
                     "the before version ({b0} to {b1}) and the after version ({a0} to {a1}) share no service date: give an after date of its own"
@@ -362,12 +341,12 @@ pub fn compare(
             }
         }
     }
-    let bs: WindowSetting = b.engine.window_setting(&wq(&q.date)).map_err(|e| b.err(e))?;
-    let as_: WindowSetting = a.engine.window_setting(&wq(&after_date)).map_err(|e| a.err(e))?;
+    let bs: WindowSetting = before.window_setting(&wq(&q.date)).map_err(|e| in_version("before", e))?;
+    let as_: WindowSetting = after.window_setting(&wq(&after_date)).map_err(|e| in_version("after", e))?;
     let cutoff_s = q.cutoff_min.unwrap_or(30) * 60;
     let headline_s = q.headline_min.unwrap_or(DEFAULT_HEADLINE_MIN) as f64 * 60.0;
     // Places matched by id.
-    let (bid, aid) = (place_ids(b.engine), place_ids(a.engine));
+    let (bid, aid) = (place_ids(before), place_ids(after));
     let a_of: HashMap<&str, usize> = aid.iter().enumerate().map(|(i, s)| (s.as_str(), i)).collect();
     let b_of: HashMap<&str, usize> = bid.iter().enumerate().map(|(i, s)| (s.as_str(), i)).collect();
     let common: Vec<(usize, usize)> = bid.iter().enumerate().filter_map(|(i, s)| a_of.get(s.as_str()).map(|&j| (i, j))).collect();
@@ -390,8 +369,8 @@ pub fn compare(
     if let Some(list) = &q.pair_list {
         for (n, (x, y)) in list.iter().enumerate() {
             let place = |id: &str| -> Result<(Option<usize>, Option<usize>), QueryError> {
-                let pb = b.engine.resolve_place(id).ok();
-                let pa = a.engine.resolve_place(id).ok();
+                let pb = before.resolve_place(id).ok();
+                let pa = after.resolve_place(id).ok();
                 if pb.is_none() && pa.is_none() {
                     return Err(QueryError::BadOption(format!("pair {}: {id:?} is a place of neither version", n + 1)));
                 }
@@ -421,7 +400,7 @@ pub fn compare(
                     Some(ids) => {
                         let mut v = Vec::new();
                         for id in ids {
-                            let i = b.engine.resolve_place(id).map_err(|e| QueryError::BadOption(format!("destination {id:?}: {e}")))?;
+                            let i = before.resolve_place(id).map_err(|e| QueryError::BadOption(format!("destination {id:?}: {e}")))?;
                             let k = *k_of
                                 .get(&i)
                                 .ok_or_else(|| QueryError::BadOption(format!("destination {id:?} is not a place of the after version")))?;
@@ -435,30 +414,8 @@ pub fn compare(
                 }
             }
             s => {
-                let want: u64 = s
-                    .strip_prefix("sample:")
-                    .and_then(|k| k.parse().ok())
-                    .ok_or_else(|| QueryError::BadOption(format!("pairs {s:?}: give all, sample:N or a list of pairs")))?;
-                let total = (n as u64) * (n as u64).saturating_sub(1);
-                if want == 0 || want > total {
-                    return Err(QueryError::BadOption(format!(
-                        "sample of {want} pairs: give 1 to {total} (the pairs of the {n} places in both versions)"
-                    )));
-                }
-                let mut seen = std::collections::HashSet::new();
-                let mut x = q.seed.unwrap_or(1);
-                let mut next = || {
-                    x = x.wrapping_add(0x9E37_79B9_7F4A_7C15);
-                    let mut z = x;
-                    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-                    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-                    z ^ (z >> 31)
-                };
-                while (seen.len() as u64) < want {
-                    let (i, j) = ((next() % n as u64) as usize, (next() % n as u64) as usize);
-                    if i != j && seen.insert((i, j)) {
-                        by_origin.entry(i).or_default().push(j);
-                    }
+                for (i, j) in sample_pairs(s, n, q.seed.unwrap_or(1), " in both versions").map_err(QueryError::BadOption)? {
+                    by_origin.entry(i).or_default().push(j);
                 }
             }
         }
@@ -472,9 +429,9 @@ pub fn compare(
         })
         .collect();
     // Both networks, their departures per place and their routes.
-    b.engine.network(bs.date);
-    a.engine.network(as_.date);
-    let (b_eng, a_eng): (&Engine, &Engine) = (b.engine, a.engine);
+    before.network(bs.date);
+    after.network(as_.date);
+    let (b_eng, a_eng): (&Engine, &Engine) = (before, after);
     let (dep_b, dep_a) = (place_departures(b_eng), place_departures(a_eng));
     let rb = route_figures(b_eng, bs.spec.departures[0], bs.spec.departures.last().copied().unwrap_or(0) + 60 * bs.step_min);
     let ra = route_figures(a_eng, as_.spec.departures[0], as_.spec.departures.last().copied().unwrap_or(0) + 60 * as_.step_min);
@@ -534,15 +491,7 @@ pub fn compare(
         }
         changes_f.sort_by(f64::total_cmp);
         st.destinations_both = changes_f.len() as u32;
-        // Median of the changes (linear between the closest ranks, on seconds scaled to integers
-        // is not needed: the values are exact halves at most).
-        st.median_change_s = if changes_f.is_empty() {
-            None
-        } else {
-            let r = 0.5 * (changes_f.len() - 1) as f64;
-            let (lo, hi) = (r.floor() as usize, r.ceil() as usize);
-            Some(changes_f[lo] + (r - lo as f64) * (changes_f[hi] - changes_f[lo]))
-        };
+        st.median_change_s = percentile_f64(&changes_f, 50.0);
         each(i + 1, total, &rows)
     };
     let done = crate::engine::compare::for_each_origin(
@@ -624,8 +573,8 @@ pub fn compare(
         window: Some(q.window.clone()),
         ..Default::default()
     };
-    let cb = before.interchange(&iq(&q.date)).map_err(|e| QueryError::BadOption(format!("before version: {e}")))?.rows;
-    let ca = after.interchange(&iq(&after_date)).map_err(|e| QueryError::BadOption(format!("after version: {e}")))?.rows;
+    let cb = before.interchange(&iq(&q.date)).map_err(|e| in_version("before", e))?.rows;
+    let ca = after.interchange(&iq(&after_date)).map_err(|e| in_version("after", e))?.rows;
     let mut old: HashMap<ConnKey, &ConnectionRow> = cb.iter().map(|r| (conn_key(r), r)).collect();
     let made = |r: &ConnectionRow| r.status == crate::analysis::interchange::Status::Made;
     let row = |x: Option<&ConnectionRow>, y: Option<&ConnectionRow>, change: &'static str| {
@@ -637,8 +586,8 @@ pub fn compare(
             arrival: r.arrival.to_string(),
             dep_route_id: r.dep_route_id.to_string(),
             dep_direction: r.dep_direction.to_string(),
-            before_status: x.map(status_text),
-            after_status: y.map(status_text),
+            before_status: x.map(|r| r.status.name().to_string()),
+            after_status: y.map(|r| r.status.name().to_string()),
             before_wait_s: x.and_then(|r| r.wait_s),
             after_wait_s: y.and_then(|r| r.wait_s),
             before_near_miss: x.is_some_and(|r| r.near_miss),

@@ -7,12 +7,13 @@
 //! Overrides (outages, what-if-fixed) are set on the timetable only for the length of one audit
 //! and always cleared before it returns.
 
-use std::collections::{BTreeMap, HashMap, HashSet};
+use std::collections::{BTreeMap, HashMap};
 
 use serde::{Deserialize, Serialize};
 
 use super::window::{WindowQuery, WindowSetting};
 use super::Engine;
+use crate::analysis::places::{sample_pairs, splitmix};
 use crate::analysis::stepfree::{completeness, origin_pairs, sides, Completeness, PairStatus, PairTimes, Side};
 use crate::analysis::window::{TravelTimes, WindowRun};
 use crate::error::QueryError;
@@ -66,6 +67,18 @@ pub struct StepFreeQuery {
     pub explain_per_origin: Option<u32>,
 }
 
+impl StepFreeQuery {
+    /// Adds outages with where they came from (an alerts file's, say); the outages given before
+    /// without a source are from the `option`.
+    pub fn add_outages(&mut self, found: Vec<(String, String)>) {
+        self.outage_sources.resize(self.outages.len(), "option".into());
+        for (id, source) in found {
+            self.outages.push(id);
+            self.outage_sources.push(source);
+        }
+    }
+}
+
 /// An element whose accessibility a pair's step-free journey depends on.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub enum Element {
@@ -109,6 +122,18 @@ pub enum OutageEffect {
     Unchanged,
     /// Not step-free before either.
     NotStepFree,
+}
+
+impl OutageEffect {
+    /// The name the files and JSON use.
+    pub fn name(self) -> &'static str {
+        match self {
+            OutageEffect::Lost => "lost",
+            OutageEffect::Slower => "slower",
+            OutageEffect::Unchanged => "unchanged",
+            OutageEffect::NotStepFree => "not_step_free",
+        }
+    }
 }
 
 /// One element in the ranking.
@@ -197,15 +222,6 @@ pub struct AlertOutages {
 
 /// The pairs to audit, grouped by origin place, each with its destination places.
 type ByOrigin = Vec<(usize, Vec<u32>)>;
-
-/// SplitMix64 (Steele, Lea, Flood 2014): seeded, the same pairs on every run.
-fn splitmix(x: &mut u64) -> u64 {
-    *x = x.wrapping_add(0x9E37_79B9_7F4A_7C15);
-    let mut z = *x;
-    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-    z ^ (z >> 31)
-}
 
 /// The ids of elements by feed, to map an itinerary's facts back to elements.
 struct ElementIds {
@@ -488,22 +504,8 @@ impl Engine {
                     }
                 }
                 s => {
-                    let k: u64 = s
-                        .strip_prefix("sample:")
-                        .and_then(|k| k.parse().ok())
-                        .ok_or_else(|| QueryError::BadOption(format!("pairs {s:?}: give all, sample:N or a list of pairs")))?;
-                    let total = (n as u64) * (n as u64).saturating_sub(1);
-                    if k == 0 || k > total {
-                        return Err(QueryError::BadOption(format!("sample of {k} pairs: give 1 to {total} (the pairs of {n} places)")));
-                    }
-                    let mut seen = HashSet::new();
-                    let mut x = q.seed.unwrap_or(1);
-                    while (seen.len() as u64) < k {
-                        let a = (splitmix(&mut x) % n as u64) as usize;
-                        let b = (splitmix(&mut x) % n as u64) as usize;
-                        if a != b && seen.insert((a, b)) {
-                            map.entry(a).or_default().push(b as u32);
-                        }
+                    for (a, b) in sample_pairs(s, n, q.seed.unwrap_or(1), "").map_err(QueryError::BadOption)? {
+                        map.entry(a).or_default().push(b as u32);
                     }
                 }
             }
@@ -574,11 +576,6 @@ impl Engine {
         result
     }
 
-    /// The window run of `setting` on the date's network (built here), all shared borrows.
-    fn shared_run<'a>(&'a mut self, setting: &'a WindowSetting) -> WindowRun<'a> {
-        self.window_run(setting)
-    }
-
     #[allow(clippy::too_many_arguments)]
     fn audit_run(
         &mut self,
@@ -599,7 +596,7 @@ impl Engine {
         let mut with_outage: Vec<Vec<Side>> = Vec::new();
         if !outages.is_empty() {
             self.set_overrides(Self::overrides_of(outages, Override::OutOfService));
-            let run = self.shared_run(step_free);
+            let run = self.window_run(step_free);
             let work = |st: &mut SearchState, buf: &mut TravelTimes, i: usize| sides(run, st, buf, pairs[i].0, &pairs[i].1);
             let done = for_origins(total, threads, work, &mut |_, v| {
                 with_outage.push(v);
@@ -779,7 +776,7 @@ impl Engine {
             }
             let sub: ByOrigin = origins.iter().map(|&i| (pairs[i as usize].0, blocked_dests[i as usize].clone())).collect();
             self.set_overrides(Self::overrides_of(&[*e], Override::AssumedAccessible));
-            let run = self.shared_run(step_free);
+            let run = self.window_run(step_free);
             let work = |st: &mut SearchState, buf: &mut TravelTimes, i: usize| sides(run, st, buf, sub[i].0, &sub[i].1);
             let mut n = 0u32;
             let done = for_origins(sub.len(), threads, work, &mut |_, v: Vec<Side>| {

@@ -3,25 +3,14 @@
 // CLI's `reach --window --json`; the matrix in Web Workers must write the very file the CLI's
 // `matrix` writes, and can be cancelled. No request leaves the page's origin.
 
-import { test, before, after } from 'node:test';
+import { test } from 'node:test';
 import assert from 'node:assert/strict';
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import * as h from './harness.mjs';
 
-let server;
-let browser;
-
-before(async () => {
-  server = await h.startServer();
-  browser = await h.launchBrowser();
-});
-
-after(async () => {
-  if (browser) await browser.close();
-  if (server) await server.stop();
-});
+const s = h.suite();
 
 const FEEDS = ['oskerveld-city', 'oskerveld-rail'].flatMap((f) => ['--feed', `www/feeds/${f}.zip`]);
 
@@ -29,9 +18,9 @@ test('reach over a window in the page equals the CLI, with sketch, saw-tooth and
   const native = await h.cli(['reach', ...FEEDS, '--from', 'ORR_QSF', '--date', '2026-12-02', '--window', '07:00-09:00', '--cutoff', '30', '--json']);
   assert.ok(native.places.length > 20, `${native.places.length} places`);
 
-  const rec = await h.openPage(browser);
+  const rec = await h.openPage(s.browser);
   const { page } = rec;
-  await h.openApp(page, server.url);
+  await h.openApp(page, s.server.url);
   await h.loadDemo(page);
   await page.click('#tab-window');
   await page.waitForSelector('html[data-view="window"]');
@@ -74,7 +63,7 @@ test('reach over a window in the page equals the CLI, with sketch, saw-tooth and
   const [dl] = await Promise.all([page.waitForEvent('download'), page.click('#w-csv')]);
   const text = fs.readFileSync(await dl.path(), 'utf8');
   assert.equal(text.trim().split(/\r\n/).length, native.places.length + 1);
-  assert.deepEqual(h.offOrigin(rec.requests, new URL(server.url).origin), []);
+  assert.deepEqual(h.offOrigin(rec.requests, new URL(s.server.url).origin), []);
   assert.deepEqual(rec.errors, []);
   await rec.context.close();
 });
@@ -86,9 +75,9 @@ test('the matrix in Web Workers writes the file the CLI writes, and can be cance
   const { execFile } = await import('node:child_process');
   await new Promise((resolve, reject) => execFile(h.BIN, ['matrix', ...FEEDS, ...args], { cwd: h.REPO }, (e) => (e ? reject(e) : resolve())));
 
-  const rec = await h.openPage(browser);
+  const rec = await h.openPage(s.browser);
   const { page } = rec;
-  await h.openApp(page, server.url);
+  await h.openApp(page, s.server.url);
   await h.loadDemo(page);
   await page.click('#tab-matrix');
   await page.waitForSelector('html[data-view="matrix"]');
@@ -128,7 +117,7 @@ test('the matrix in Web Workers writes the file the CLI writes, and can be cance
   await page.click('#m-cancel');
   await page.waitForFunction(() => /Cancelled/.test(document.querySelector('#m-summary').textContent), null, { timeout: 30000 });
   assert.equal(await page.isDisabled('#m-csv'), true, 'nothing to download after a cancel');
-  assert.deepEqual(h.offOrigin(rec.requests, new URL(server.url).origin), []);
+  assert.deepEqual(h.offOrigin(rec.requests, new URL(s.server.url).origin), []);
   assert.deepEqual(rec.errors.filter((e) => !/cancelled/.test(e)), []);
   await rec.context.close();
 });

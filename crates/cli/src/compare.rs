@@ -8,10 +8,10 @@ use std::path::{Path, PathBuf};
 use timeweave::engine::compare::{compare, CompareQuery, CompareReport};
 use timeweave::engine::Engine;
 use timeweave_disk::Staged;
-use timeweave_tables::{rows_csv, SerdeTable};
+use timeweave_tables::SerdeTable;
 
 use crate::stepfree::read_pairs;
-use crate::window::{streamed, StreamError};
+use crate::window::{streamed, write_rows, StreamError};
 
 /// The definitions behind every number `compare` writes, for its `--help` and `about.txt`.
 pub const DEFINITIONS: &str = "\
@@ -114,12 +114,6 @@ pub fn run(before: &mut Engine, after: &mut Engine, a: Args) -> Result<(), Strin
     crate::say(&summary(&report, a.before, a.after));
     crate::say(&format!("{}: pairs.csv, stations.csv, routes.csv, connections.csv, about.txt", a.out.display()));
     Ok(())
-}
-
-fn write_rows<T: serde::Serialize>(file: &Staged, path: &Path, rows: &[T]) -> Result<(), String> {
-    let cannot = |e: &dyn std::fmt::Display| format!("error: cannot write {}: {e}", path.display());
-    let mut w = rows_csv(file.writer().map_err(|e| cannot(&e))?, rows).map_err(|e| cannot(&e))?;
-    std::io::Write::flush(&mut w).map_err(|e| cannot(&e))
 }
 
 /// The one-screen summary.

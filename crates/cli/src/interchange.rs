@@ -8,9 +8,9 @@ use timeweave::analysis::interchange::Status;
 use timeweave::engine::interchange::InterchangeQuery;
 use timeweave::engine::Engine;
 use timeweave_disk::Staged;
-use timeweave_tables::{rows_csv, ConnectionTable};
+use timeweave_tables::ConnectionTable;
 
-use crate::window::{beside, streamed, StreamError};
+use crate::window::{beside, streamed, write_rows, StreamError};
 
 pub fn run(engine: &mut Engine, q: &InterchangeQuery, out: &Path) -> Result<(), String> {
     let cannot = |p: &Path, e: &dyn std::fmt::Display| format!("error: cannot write {}: {e}", p.display());
@@ -63,10 +63,4 @@ pub fn run(engine: &mut Engine, q: &InterchangeQuery, out: &Path) -> Result<(), 
         stations_path.display()
     ));
     Ok(())
-}
-
-fn write_rows<T: serde::Serialize>(file: &Staged, path: &Path, rows: &[T]) -> Result<(), String> {
-    let cannot = |e: &dyn std::fmt::Display| format!("error: cannot write {}: {e}", path.display());
-    let mut w = rows_csv(file.writer().map_err(|e| cannot(&e))?, rows).map_err(|e| cannot(&e))?;
-    std::io::Write::flush(&mut w).map_err(|e| cannot(&e))
 }

@@ -8,9 +8,9 @@ use std::path::{Path, PathBuf};
 use timeweave::engine::stepfree::{StepFreeQuery, StepFreeReport, CAUTION};
 use timeweave::engine::Engine;
 use timeweave_disk::Staged;
-use timeweave_tables::{rows_csv, StepFreePairTable};
+use timeweave_tables::StepFreePairTable;
 
-use crate::window::{streamed, StreamError};
+use crate::window::{streamed, write_rows, StreamError};
 
 /// The definitions behind every number `stepfree` writes, for its `--help` and `about.txt`.
 pub const DEFINITIONS: &str = "\
@@ -118,17 +118,13 @@ pub fn run(engine: &mut Engine, a: Args) -> Result<(), String> {
     if let Some(p) = a.outages {
         q.outages.extend(outages_file(engine, p)?);
     }
-    q.outage_sources = vec!["option".to_string(); q.outages.len()];
     if let Some(p) = a.alerts {
         let bytes = std::fs::read(p).map_err(|e| format!("error: cannot read {}: {e}", p.display()))?;
         let found = engine.outages_from_alerts(&bytes, &q.date, &q.window).map_err(|e| format!("error: {}: {e}", p.display()))?;
         for s in &found.skipped {
             eprintln!("{}: skipped: {s}", p.display());
         }
-        for (id, source) in found.outages {
-            q.outages.push(id);
-            q.outage_sources.push(source);
-        }
+        q.add_outages(found.outages);
     }
     if a.out.is_file() {
         return Err(format!("error: --out {} is a file; give a folder", a.out.display()));
@@ -177,12 +173,6 @@ pub fn run(engine: &mut Engine, a: Args) -> Result<(), String> {
     ));
     crate::say(&format!("Caution: {CAUTION}"));
     Ok(())
-}
-
-fn write_rows<T: serde::Serialize>(file: &Staged, path: &Path, rows: &[T]) -> Result<(), String> {
-    let cannot = |e: &dyn std::fmt::Display| format!("error: cannot write {}: {e}", path.display());
-    let mut w = rows_csv(file.writer().map_err(|e| cannot(&e))?, rows).map_err(|e| cannot(&e))?;
-    std::io::Write::flush(&mut w).map_err(|e| cannot(&e))
 }
 
 fn pct(a: u64, b: u64) -> String {

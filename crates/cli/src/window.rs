@@ -193,6 +193,13 @@ pub fn cancel_on_ctrl_c() -> Arc<AtomicBool> {
     cancel
 }
 
+/// Serialisable rows as a whole CSV file into a staged file.
+pub fn write_rows<T: serde::Serialize>(file: &timeweave_disk::Staged, path: &Path, rows: &[T]) -> Result<(), String> {
+    let cannot = |e: &dyn std::fmt::Display| format!("error: cannot write {}: {e}", path.display());
+    let mut w = timeweave_tables::rows_csv(file.writer().map_err(|e| cannot(&e))?, rows).map_err(|e| cannot(&e))?;
+    std::io::Write::flush(&mut w).map_err(|e| cannot(&e))
+}
+
 /// Why a streamed run wrote nothing.
 pub enum StreamError {
     /// A bad request, as the engine put it.

@@ -18,7 +18,6 @@ use arrow_schema::{DataType, Field, Schema, SchemaRef};
 use parquet::arrow::ArrowWriter;
 use parquet::basic::Compression;
 use parquet::file::properties::WriterProperties;
-use timeweave::analysis::interchange::Status;
 use timeweave::analysis::window::{Rows, NONE};
 use timeweave::engine::interchange::{ConnectionRow, Text};
 use timeweave::engine::window::WindowReach;
@@ -286,11 +285,7 @@ impl<W: Write> ConnectionTable<W> {
         let (mut arr, mut dep) = (String::new(), String::new());
         let mut nums = [String::new(), String::new(), String::new()];
         for r in rows {
-            let status = match r.status {
-                Status::Made => "made",
-                Status::None => "none",
-                Status::NotPossible => "not_possible",
-            };
+            let status = r.status.name();
             arr.clear();
             let _ = write!(arr, "{}", r.arrival);
             dep.clear();
@@ -368,32 +363,19 @@ impl<W: Write> StepFreePairTable<W> {
     }
 
     pub fn add(&mut self, rows: &[timeweave::engine::stepfree::StepFreePairRow]) -> Result<(), TableError> {
-        use timeweave::analysis::stepfree::PairStatus;
-        use timeweave::engine::stepfree::OutageEffect;
         let secs = |x: Option<f64>| x.map(|v| format!("{}", (v * 1000.0).round() / 1000.0)).unwrap_or_default();
         for r in rows {
-            let status = match r.status {
-                PairStatus::StepFree => "step_free",
-                PairStatus::Blocked => "blocked",
-                PairStatus::NoJourney => "no_journey",
-            };
             let mut rec = vec![
                 r.from_stop_id.clone(),
                 r.to_stop_id.clone(),
                 secs(r.standard_p50_s),
                 secs(r.stepfree_p50_s),
                 secs(r.extra_p50_s),
-                status.to_string(),
+                r.status.name().to_string(),
                 r.blocking.join(";"),
             ];
             if self.outages {
-                let effect = match r.outage_status {
-                    Some(OutageEffect::Lost) => "lost",
-                    Some(OutageEffect::Slower) => "slower",
-                    Some(OutageEffect::Unchanged) => "unchanged",
-                    Some(OutageEffect::NotStepFree) => "not_step_free",
-                    None => "",
-                };
+                let effect = r.outage_status.map_or("", |e| e.name());
                 rec.extend([secs(r.outage_stepfree_p50_s), effect.to_string(), r.outage_blocking.join(";")]);
             }
             rec.extend([r.standard_reached.to_string(), r.stepfree_reached.to_string()]);

@@ -400,11 +400,7 @@ impl Engine {
         let mut skipped = Vec::new();
         if let Some(bytes) = alerts {
             let found = self.core.outages_from_alerts(&bytes, &q.date, &q.window).map_err(failure)?;
-            q.outage_sources.resize(q.outages.len(), "option".into());
-            for (id, source) in found.outages {
-                q.outages.push(id);
-                q.outage_sources.push(source);
-            }
+            q.add_outages(found.outages);
             skipped = found.skipped;
         }
         self.sf = None;
