@@ -5,6 +5,7 @@
 
 pub mod compare;
 pub mod interchange;
+pub mod kiosk;
 pub mod stepfree;
 pub mod window;
 
@@ -19,6 +20,7 @@ use crate::journey::{Builder, Check, Itinerary, LegKind, RouteRef};
 use crate::route::options;
 use crate::route::search::{self, Endpoints, Journey, Params, Query, SearchState, StepFree};
 use crate::timetable::calendar::{clock_to_seconds, parse_clock, parse_date};
+use crate::timetable::snapshot::{SnapshotError, SnapshotInfo};
 use crate::timetable::{Access, FeedMeta, Stop, StopIdx, StopKind, Timetable, WalkConfig};
 
 /// A planning request as the page and the CLI send it. Missing fields take the defaults of
@@ -158,6 +160,8 @@ pub struct Engine {
     names: Vec<String>,
     /// The places analyses report on (stations, stops outside stations).
     pub places: Places,
+    /// Set when the timetable came from a snapshot rather than feeds.
+    pub snapshot: Option<SnapshotInfo>,
 }
 
 /// Lower case without accents, for matching names typed by people.
@@ -194,6 +198,31 @@ impl Engine {
         let idx = crate::feed::load_source(&mut self.tt, &name, source, &self.walk_cfg, progress)?;
         self.loaded();
         Ok(&self.tt.feeds[idx.idx()])
+    }
+
+    /// Loads a snapshot ([`crate::timetable::snapshot`]) into an engine with nothing loaded.
+    /// On error the engine is unchanged.
+    pub fn load_snapshot(&mut self, bytes: &[u8]) -> Result<&SnapshotInfo, SnapshotError> {
+        if !self.tt.feeds.is_empty() {
+            return Err(SnapshotError::NotEmpty);
+        }
+        let (mut tt, info) = crate::timetable::snapshot::read(bytes)?;
+        crate::timetable::walking::rebuild(&mut tt, &self.walk_cfg);
+        self.tt = tt;
+        self.loaded();
+        Ok(self.snapshot.insert(info))
+    }
+
+    /// The snapshot of the loaded timetable for the service dates `first..=last` (see
+    /// [`crate::timetable::snapshot::write`]); refused when a date is outside the loaded feeds.
+    pub fn snapshot_bytes(&self, first: NaiveDate, last: NaiveDate, made_by: &str) -> Result<Vec<u8>, QueryError> {
+        let Some((f0, f1)) = self.tt.date_range() else { return Err(QueryError::NoFeed) };
+        if first > last || first < f0 || last > f1 {
+            return Err(QueryError::BadOption(format!(
+                "the dates {first} to {last} are not all within the loaded feeds, which cover {f0} to {f1}"
+            )));
+        }
+        Ok(crate::timetable::snapshot::write(&self.tt, first, last, made_by))
     }
 
     pub fn remove_feed(&mut self, name: &str) -> bool {
@@ -386,13 +415,23 @@ impl Engine {
         }
         let date = parse_date(&q.date).ok_or_else(|| QueryError::BadDate(q.date.clone()))?;
         let (h, m) = parse_clock(&q.time).ok_or_else(|| QueryError::BadTime(q.time.clone()))?;
+        let tz = self.tt.feeds[0].timezone;
+        let depart_s = clock_to_seconds(tz, date, h, m).ok_or_else(|| QueryError::BadTime(q.time.clone()))?.max(0) as u32;
+        self.plan_at(q, date, depart_s)
+    }
+
+    /// [`Engine::plan`] leaving `depart_s` seconds after `date`'s origin (`q.date` and `q.time`
+    /// are not read): for callers that hold an instant, such as a clock, rather than a clock
+    /// reading, which is ambiguous in the hour repeated when clocks go back.
+    pub fn plan_at(&mut self, q: &PlanQuery, date: NaiveDate, depart_s: u32) -> Result<PlanResult, QueryError> {
+        if self.tt.feeds.is_empty() {
+            return Err(QueryError::NoFeed);
+        }
         let from = self.resolve(&q.from)?;
         let to = self.resolve(&q.to)?;
         let p = self.params_for(q)?;
         let k = q.next.unwrap_or(3).clamp(1, 10);
         let ends = Endpoints { origins: self.endpoints_of(from), targets: self.endpoints_of(to) };
-        let tz = self.tt.feeds[0].timezone;
-        let depart_s = clock_to_seconds(tz, date, h, m).ok_or_else(|| QueryError::BadTime(q.time.clone()))?.max(0) as u32;
         let mut result = PlanResult {
             asked: q.clone(),
             journeys: vec![],

@@ -8,11 +8,12 @@
 //! the trips of one service date.
 
 pub mod calendar;
+pub mod snapshot;
 pub mod walking;
 
 use chrono::NaiveDate;
 use chrono_tz::Tz;
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use crate::error::WarningLog;
 pub use calendar::Service;
@@ -20,7 +21,7 @@ pub use walking::{Footpath, FootpathSet, PathwayStep, WalkConfig, WalkProfile};
 
 macro_rules! index_type {
     ($name:ident) => {
-        #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Default)]
+        #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize, Default)]
         pub struct $name(pub u32);
         impl $name {
             #[inline]
@@ -39,7 +40,7 @@ index_type!(PathwayIdx);
 
 /// Accessibility as the feed states it (GTFS `wheelchair_boarding` / `wheelchair_accessible`):
 /// 0 or empty = no information, 1 = accessible, 2 = not accessible.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Default)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
 #[serde(rename_all = "snake_case")]
 pub enum Access {
     #[default]
@@ -75,7 +76,7 @@ impl Access {
 }
 
 /// GTFS `location_type`.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum StopKind {
     Platform,
@@ -85,7 +86,7 @@ pub enum StopKind {
     BoardingArea,
 }
 
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, Deserialize)]
 pub struct Stop {
     pub feed: FeedIdx,
     pub id: String,
@@ -105,7 +106,7 @@ pub struct Stop {
     pub platform_code: Option<String>,
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Mode {
     Tram,
@@ -162,7 +163,7 @@ impl Mode {
     }
 }
 
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, Deserialize)]
 pub struct Route {
     pub feed: FeedIdx,
     pub id: String,
@@ -237,7 +238,7 @@ fn ser_tz<S: serde::Serializer>(tz: &Tz, s: S) -> Result<S::Ok, S::Error> {
 }
 
 /// A transfer rule from `transfers.txt` that is not a plain stop-to-stop walking link.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 pub enum TransferRule {
     /// transfer_type 1: the connection is timed, no minimum time.
     Timed,
@@ -280,7 +281,7 @@ pub struct Timetable {
 }
 
 /// One side of a trip- or route-specific transfer rule.
-#[derive(Debug, Clone, PartialEq, Eq)]
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub enum RuleEnd {
     Any,
     Route(RouteIdx),
@@ -300,7 +301,7 @@ impl RuleEnd {
     }
 }
 
-#[derive(Debug, Clone, PartialEq, Eq)]
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct SpecificRule {
     pub stop: StopIdx,
     pub from: RuleEnd,
@@ -308,7 +309,7 @@ pub struct SpecificRule {
     pub rule: TransferRule,
 }
 
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Serialize, Deserialize)]
 pub struct Pathway {
     pub id: String,
     pub from: StopIdx,
@@ -322,7 +323,7 @@ pub struct Pathway {
     pub min_width_m: Option<f32>,
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum PathwayMode {
     Walkway,
@@ -361,7 +362,7 @@ impl PathwayMode {
 }
 
 /// An element's accessibility as the user sets it, over the feed's.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Override {
     /// Out of service (a lift or ramp out of order, a stop or route not step-free today).

@@ -9,6 +9,7 @@ use timeweave::route::StepFree;
 
 mod compare;
 mod interchange;
+mod kiosk;
 mod stepfree;
 mod window;
 
@@ -338,6 +339,68 @@ enum Command {
         #[arg(long, value_name = "FILE")]
         out: PathBuf,
     },
+    /// Write the routable timetable of a run of service dates as one binary snapshot file, which
+    /// a kiosk (and every command's --feed) reads without parsing GTFS.
+    Snapshot {
+        #[command(flatten)]
+        feeds: Feeds,
+        /// First service date, YYYY-MM-DD (default: today in the first feed's time zone).
+        #[arg(long)]
+        from: Option<String>,
+        /// Service dates covered, from --from on (1-366).
+        #[arg(long, default_value_t = 7)]
+        days: u32,
+        /// Snapshot file to write (replaced whole, or left untouched on error).
+        #[arg(long, value_name = "FILE")]
+        out: PathBuf,
+    },
+    /// Write a self-contained kiosk folder (page, WASM, snapshot, web app manifest, service
+    /// worker) showing departures from one stop and journeys to a few destinations, offline.
+    #[command(after_help = kiosk::BOARD_HELP)]
+    Kiosk {
+        #[command(flatten)]
+        feeds: Feeds,
+        /// The stop or station the kiosk stands at (id, code or name).
+        #[arg(long)]
+        stop: String,
+        /// Destinations shown with their next journeys, comma-separated ids.
+        #[arg(long, value_delimiter = ',')]
+        destinations: Vec<String>,
+        /// First service date, YYYY-MM-DD (default: today in the first feed's time zone).
+        #[arg(long)]
+        from: Option<String>,
+        /// Service dates covered, from --from on (1-366).
+        #[arg(long, default_value_t = 7)]
+        days: u32,
+        /// Heading shown on the screen (default: the stop's name).
+        #[arg(long)]
+        title: Option<String>,
+        /// Folder holding the built page (kiosk/ and pkg/); default: this source tree's www/.
+        #[arg(long, value_name = "DIR")]
+        www: Option<PathBuf>,
+        /// Folder to write (a folder this command wrote before is replaced whole).
+        #[arg(long, value_name = "DIR")]
+        out: PathBuf,
+    },
+    /// The kiosk's board as text: next departures from a stop and journeys to destinations.
+    #[command(after_help = kiosk::BOARD_HELP)]
+    Board {
+        #[command(flatten)]
+        feeds: Feeds,
+        #[arg(long)]
+        stop: String,
+        /// Comma-separated destination ids.
+        #[arg(long, value_delimiter = ',')]
+        destinations: Vec<String>,
+        /// The instant, RFC 3339 (e.g. 2026-10-25T00:20:00Z); default: now.
+        #[arg(long)]
+        at: Option<String>,
+        /// Minutes ahead to list departures.
+        #[arg(long, default_value_t = 90)]
+        horizon: u32,
+        #[arg(long)]
+        json: bool,
+    },
     /// Serve the web page (or any folder) on 127.0.0.1 only.
     Serve {
         /// Port to listen on; 0 picks a free one.
@@ -596,6 +659,32 @@ fn run(cli: Cli) -> Result<(), String> {
                 stats.bytes
             );
             Ok(())
+        }
+        Command::Snapshot { feeds, from, days, out } => {
+            let engine = load(&feeds.feeds, false)?;
+            kiosk::snapshot(&engine, from.as_deref(), days, &out)
+        }
+        Command::Kiosk { feeds, stop, destinations, from, days, title, www, out } => {
+            let mut engine = load(&feeds.feeds, false)?;
+            let www = www.unwrap_or_else(kiosk::default_www);
+            let args = kiosk::KioskArgs {
+                stop: &stop,
+                destinations: &destinations,
+                from: from.as_deref(),
+                days,
+                title: title.as_deref(),
+                www: &www,
+                out: &out,
+            };
+            kiosk::kiosk(&mut engine, args)
+        }
+        Command::Board { feeds, stop, destinations, at, horizon, json: as_json } => {
+            let now_ms = kiosk::parse_at(at.as_deref())?;
+            let mut engine = load(&feeds.feeds, as_json)?;
+            let mut q = timeweave::engine::kiosk::BoardQuery::new(&stop, now_ms);
+            q.destinations = destinations;
+            q.horizon_min = horizon.clamp(1, 24 * 60);
+            kiosk::board(&mut engine, &q, as_json)
         }
         Command::Serve { port, root, feeds } => timeweave_serve::serve(&root, port, &feeds).map_err(|e| format!("error: {e}")),
     }

@@ -44,14 +44,20 @@ pub fn feed_name(path: &Path) -> &str {
     path.file_stem().and_then(|s| s.to_str()).unwrap_or("feed")
 }
 
-/// Loads a feed from a zip file or a folder of `.txt` files. On error the feeds loaded before
-/// stay loaded.
+/// Loads a feed from a zip file or a folder of `.txt` files, or a snapshot (told by its
+/// signature, whatever its name). On error the feeds loaded before stay loaded.
 pub fn load_feed<'e>(engine: &'e mut Engine, path: &Path, progress: Progress) -> Result<&'e FeedMeta, FeedError> {
     let name = feed_name(path);
     if path.is_dir() {
         engine.load_source(name, &mut FolderSource::new(path), progress)
     } else {
         let bytes = std::fs::read(path).map_err(|e| FeedError(FeedIssue::new(name, format!("cannot read {}: {e}", path.display()))))?;
+        if timeweave::timetable::snapshot::is_snapshot(&bytes) {
+            let shown =
+                |e: timeweave::timetable::snapshot::SnapshotError| FeedError(FeedIssue::new(name, format!("{}: {e}", path.display())));
+            engine.load_snapshot(&bytes).map_err(shown)?;
+            return Ok(&engine.tt.feeds[0]);
+        }
         engine.load_zip(name, &bytes, progress)
     }
 }
@@ -102,6 +108,55 @@ pub fn write_atomically<T>(path: &Path, write: impl FnOnce(&mut io::BufWriter<&m
     tmp.persist(path).map_err(|e| e.error)?;
     readable(path)?;
     Ok(value)
+}
+
+/// An output folder being written under a temporary name beside it: it takes the place of
+/// `path` only on [`StagedFolder::commit`] (replacing a folder that `replaceable` accepted when
+/// staged); dropped without a commit, it leaves nothing behind.
+pub struct StagedFolder {
+    path: std::path::PathBuf,
+    tmp: tempfile::TempDir,
+}
+
+impl StagedFolder {
+    /// Refuses at once, before any work, when `path` is a file or a non-empty folder that
+    /// `replaceable` does not accept.
+    pub fn create(path: &Path, replaceable: impl Fn(&Path) -> bool) -> io::Result<StagedFolder> {
+        if path.exists() {
+            let empty = path.is_dir() && std::fs::read_dir(path)?.next().is_none();
+            if !path.is_dir() || !(empty || replaceable(path)) {
+                return Err(io::Error::other(format!(
+                    "{} exists and is not a folder this command wrote: choose another --out",
+                    path.display()
+                )));
+            }
+        }
+        let dir = path.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or(Path::new("."));
+        let tmp = tempfile::Builder::new().prefix(".timeweave-").tempdir_in(dir)?;
+        Ok(StagedFolder { path: path.to_path_buf(), tmp })
+    }
+    /// The temporary folder to write into.
+    pub fn dir(&self) -> &Path {
+        self.tmp.path()
+    }
+    /// Gives the folder its name, replacing the old one.
+    pub fn commit(self) -> io::Result<()> {
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt;
+            std::fs::set_permissions(self.tmp.path(), std::fs::Permissions::from_mode(0o755))?;
+        }
+        let new = self.tmp.keep();
+        if self.path.exists() {
+            let old = new.with_extension("old");
+            std::fs::rename(&self.path, &old)?;
+            std::fs::rename(&new, &self.path)?;
+            std::fs::remove_dir_all(&old)?;
+        } else {
+            std::fs::rename(&new, &self.path)?;
+        }
+        Ok(())
+    }
 }
 
 /// A temporary file is created readable by its owner only; the output a user asked for gets the

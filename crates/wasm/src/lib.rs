@@ -8,6 +8,7 @@ use wasm_bindgen::prelude::*;
 use timeweave::analysis::window::{Destinations, Rows, TravelTimes};
 use timeweave::engine::compare::{ComparePairRow, CompareQuery, CompareReport, PairChange};
 use timeweave::engine::interchange::{ConnectionRow, InterchangeQuery};
+use timeweave::engine::kiosk::BoardQuery;
 use timeweave::engine::stepfree::{StepFreePairRow, StepFreeQuery, StepFreeReport};
 use timeweave::engine::window::{WindowQuery, WindowSetting};
 use timeweave::engine::{Engine as Core, PlanQuery};
@@ -526,6 +527,20 @@ impl Engine {
     }
 
     /// Bytes of the timetable's per-stop-event arrays (the date's graph is not counted).
+    /// Loads a snapshot (`timeweave snapshot`) into an engine with nothing loaded; the error is
+    /// the snapshot's own sentence (damaged, cut short, another format version…).
+    pub fn load_snapshot(&mut self, bytes: &[u8]) -> Result<JsValue, JsValue> {
+        let info = self.core.load_snapshot(bytes).map_err(|e| js_sys::Error::new(&e.to_string()))?;
+        to_js(info)
+    }
+
+    /// The kiosk board from `stop` at the clock reading `now_ms` (ms since the Unix epoch).
+    pub fn board(&mut self, stop: &str, destinations: Vec<String>, now_ms: f64) -> Result<JsValue, JsValue> {
+        let mut q = BoardQuery::new(stop, now_ms as i64);
+        q.destinations = destinations;
+        self.core.board(&q).map_err(failure).and_then(|b| to_js(&b))
+    }
+
     pub fn memory_bytes(&self) -> usize {
         self.core.tt.event_bytes()
     }
