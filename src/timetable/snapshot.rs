@@ -13,7 +13,9 @@
 //!
 //! The body stores each trip as a stop pattern (stops and pickup/drop-off flags, shared by every
 //! trip that calls at the same stops), a running-time profile (arrival and dwell offsets from the
-//! trip's first arrival, shared by every trip that runs the same times) and a start time. Walking
+//! trip's first arrival, shared by every trip that runs the same times) and a start time. Service
+//! calendars are cut to the snapshot's dates (and the day before), so it runs no trip on a date it
+//! does not cover. Walking
 //! links are not stored: they are rebuilt on load from stops, transfers and pathways, so a
 //! snapshot never disagrees with the walking model of the build that reads it.
 //!
@@ -225,7 +227,7 @@ pub fn write(tt: &Timetable, first: NaiveDate, last: NaiveDate, made_by: &str) -
         feeds,
         stops: tt.stops.clone(),
         routes: tt.routes.clone(),
-        services: tt.services.clone(),
+        services: tt.services.iter().map(|s| clip(s, day_before, last)).collect(),
         texts: texts.items,
         patterns: patterns.items,
         profiles: profiles.items,
@@ -244,6 +246,19 @@ pub fn write(tt: &Timetable, first: NaiveDate, last: NaiveDate, made_by: &str) -
     out.extend_from_slice(&(payload.len() as u64).to_le_bytes());
     out.extend_from_slice(&payload);
     out
+}
+
+/// A service cut to the dates `first..=last`, so a snapshot answers for no date it does not hold.
+fn clip(s: &Service, first: NaiveDate, last: NaiveDate) -> Service {
+    let within = |d: &&NaiveDate| first <= **d && **d <= last;
+    Service {
+        id: s.id.clone(),
+        weekdays: s.weekdays,
+        start: s.start.map(|d| d.max(first)),
+        end: s.end.map(|d| d.min(last)),
+        added: s.added.iter().filter(within).copied().collect(),
+        removed: s.removed.iter().filter(within).copied().collect(),
+    }
 }
 
 /// True when `bytes` start with the snapshot signature (so a shell can tell a snapshot from a zip).

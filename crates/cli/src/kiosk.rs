@@ -99,6 +99,11 @@ pub fn kiosk(engine: &mut Engine, a: KioskArgs) -> Result<(), String> {
     let staged = timeweave_disk::StagedFolder::create(a.out, |p| p.join("kiosk.json").is_file())
         .map_err(|e| format!("error: cannot write {}: {e}", a.out.display()))?;
     let checksum = u32::from_le_bytes(snap[12..16].try_into().expect("snapshot header"));
+    // The cache name changes with any file, so a new page or a new timetable replaces the old whole.
+    let mut all = crc32fast::Hasher::new();
+    all.update(&snap);
+    page.iter().for_each(|(_, b)| all.update(b));
+    let cache = all.finalize();
     let title = a.title.map_or_else(|| stop.name.clone(), str::to_string);
     let config = serde_json::json!({
         "title": title,
@@ -121,12 +126,11 @@ pub fn kiosk(engine: &mut Engine, a: KioskArgs) -> Result<(), String> {
         "theme_color": "#101418",
         "icons": [{ "src": "icon.svg", "sizes": "any", "type": "image/svg+xml" }],
     });
-    // The service worker's list: every file of the folder, and a cache name that changes with
-    // the snapshot, so a new folder replaces the old cache whole.
+    // The service worker's list: every file of the folder.
     let mut files: Vec<&str> = vec!["./", "kiosk.json", "manifest.webmanifest", SNAPSHOT_FILE];
     files.extend(page.iter().map(|(to, _)| *to).filter(|f| *f != "sw.js"));
     let list = format!(
-        "// Written by `timeweave kiosk`: the files the service worker keeps, and its cache name.\nself.KIOSK_CACHE = 'timeweave-kiosk-{checksum:08x}';\nself.KIOSK_FILES = {};\n",
+        "// Written by `timeweave kiosk`: the files the service worker keeps, and its cache name.\nself.KIOSK_CACHE = 'timeweave-kiosk-{cache:08x}';\nself.KIOSK_FILES = {};\n",
         serde_json::to_string(&files).expect("strings")
     );
     let dir = staged.dir();
