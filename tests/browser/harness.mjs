@@ -41,14 +41,15 @@ function freePort() {
 }
 
 /** Starts `timeweave serve --port <free port>` from the repo root; resolves once it listens. */
-export async function startServer() {
+export async function startServer({ root } = {}) {
   if (!fs.existsSync(BIN)) {
     throw new Error(`${BIN} does not exist: build it (cargo build --release) or set TIMEWEAVE_BIN`);
   }
   const port = await freePort();
   const args = ['serve', '--port', String(port)];
   // TIMEWEAVE_SERVE_ROOT serves another copy of the page (e.g. an alternative WASM build).
-  if (process.env.TIMEWEAVE_SERVE_ROOT) args.push('--root', process.env.TIMEWEAVE_SERVE_ROOT);
+  const served = root || process.env.TIMEWEAVE_SERVE_ROOT;
+  if (served) args.push('--root', served);
   const child = spawn(BIN, args, { cwd: REPO, stdio: ['ignore', 'pipe', 'pipe'] });
   let out = '';
   const url = await new Promise((resolve, reject) => {
@@ -87,8 +88,8 @@ export function launchBrowser() {
  * Opens a fresh context and page and records what happens in it.
  * @returns {{ context, page, requests: string[], dialogs: string[], errors: string[] }}
  */
-export async function openPage(browser, { viewport = DESKTOP } = {}) {
-  const context = await browser.newContext({ viewport, serviceWorkers: 'block' });
+export async function openPage(browser, { viewport = DESKTOP, serviceWorkers = 'block' } = {}) {
+  const context = await browser.newContext({ viewport, serviceWorkers });
   const page = await context.newPage();
   const rec = { context, page, requests: [], dialogs: [], errors: [] };
   context.on('request', (r) => rec.requests.push(r.url()));
