@@ -19,9 +19,12 @@
 // Not a `*.test.mjs` file: the test command does not run it. Run: node tests/browser/bench/bench.mjs
 // Environment: TIMEWEAVE_BENCH_FEED (default bench-out/metro-1.zip), TIMEWEAVE_BENCH_QUERIES
 // (default 1000), TIMEWEAVE_BENCH_DATE (default 2026-12-02), TIMEWEAVE_BENCH_KINDS (comma-separated
-// subset of plan1,plan3,strict,reach,reach_minutes,interchange,stepfree; default all), TIMEWEAVE_BIN.
+// subset of plan1,plan3,strict,reach,reach_minutes,interchange,stepfree,snapshot; default all), TIMEWEAVE_BIN.
 // `stepfree`: the step-free audit of a 500-pair sample, 07:00–08:00 (the page's view, one thread),
 // three runs.
+// `snapshot`: the same feed's snapshot (`timeweave snapshot`, 7 days from the date) fetched and
+// loaded five times into a fresh engine, then a first plan and a kiosk board; the zip load above
+// is the baseline in the same run.
 // `interchange`: the audit of each station, 07:00–09:00, one at a time (what the page's
 // Connections view runs for one station), after one audit of all stations to list them.
 
@@ -37,7 +40,8 @@ const N = Math.max(1, Number(process.env.TIMEWEAVE_BENCH_QUERIES || 1000));
 const DATE = process.env.TIMEWEAVE_BENCH_DATE || '2026-12-02';
 const OUT_DIR = path.join(REPO, 'bench-out');
 const LIMIT_MIN = 240;
-const KINDS = (process.env.TIMEWEAVE_BENCH_KINDS || 'plan1,plan3,strict,reach,reach_minutes,interchange,stepfree').split(',');
+const KINDS = (process.env.TIMEWEAVE_BENCH_KINDS || 'plan1,plan3,strict,reach,reach_minutes,interchange,stepfree,snapshot').split(',');
+const SNAPSHOT = path.join(OUT_DIR, `${path.basename(FEED, '.zip')}.twsnap`);
 
 // ------------------------------------------------------------------ server and processes
 
@@ -55,7 +59,8 @@ function freePort() {
 /** `timeweave serve --port <free> --feed FEED`; resolves once it prints the address. */
 async function startServer() {
   const port = await freePort();
-  const child = spawn(BIN, ['serve', '--port', String(port), '--feed', FEED], { cwd: REPO, stdio: ['ignore', 'pipe', 'pipe'] });
+  const extra = fs.existsSync(SNAPSHOT) ? ['--feed', SNAPSHOT] : [];
+  const child = spawn(BIN, ['serve', '--port', String(port), '--feed', FEED, ...extra], { cwd: REPO, stdio: ['ignore', 'pipe', 'pipe'] });
   let out = '';
   const url = await new Promise((resolve, reject) => {
     const timer = setTimeout(() => reject(new Error(`server did not report listening within 20 s:\n${out}`)), 20000);
@@ -246,6 +251,10 @@ async function main() {
     fs.mkdirSync(path.dirname(FEED), { recursive: true });
     execFileSync(BIN, ['synth', '--preset', preset, '--seed', '1', '--out', FEED], { stdio: 'inherit' });
   }
+  if (KINDS.includes('snapshot')) {
+    console.error(`bench: writing ${SNAPSHOT}`);
+    execFileSync(BIN, ['snapshot', '--feed', FEED, '--from', DATE, '--days', '7', '--out', SNAPSHOT], { stdio: 'inherit' });
+  }
   const { queries, source } = loadQueries();
   const feedName = path.basename(FEED);
   const server = await startServer();
@@ -380,6 +389,34 @@ async function main() {
         return { times, counts };
       }, { date: DATE });
     }
+    if (KINDS.includes('snapshot')) {
+      console.error('bench: snapshot, five loads');
+      result.snapshot = await page.evaluate(async ({ url, first, date }) => {
+        const { mod } = window.__bench;
+        const loads = [];
+        let info = null;
+        let routable = null;
+        let board = null;
+        for (let k = 0; k < 5; k++) {
+          const t0 = performance.now();
+          const bytes = new Uint8Array(await (await fetch(url)).arrayBuffer());
+          const t1 = performance.now();
+          const engine = new mod.Engine();
+          info = engine.load_snapshot(bytes);
+          const t2 = performance.now();
+          loads.push({ fetch_ms: t1 - t0, load_ms: t2 - t1 });
+          if (k === 4) {
+            engine.plan(first);
+            routable = performance.now() - t1;
+            const t3 = performance.now();
+            engine.board(first.from, [first.to], Date.parse(`${date}T07:00:00Z`));
+            board = performance.now() - t3;
+          }
+          engine.free();
+        }
+        return { loads, bytes: info.bytes, routable_ms: routable, board_ms: board };
+      }, { url: `/feeds/${encodeURIComponent(path.basename(SNAPSHOT))}`, first: { ...queries[0], date: DATE, next: 1 }, date: DATE });
+    }
     const queryPeak = querySampler.stop();
     result.query_peak_rss = queryPeak.rss;
     result.query_peak_pss = queryPeak.pss;
@@ -438,6 +475,17 @@ function table(r) {
     const t = [...r.stepfree.times].sort((a, b) => a - b);
     const c = r.stepfree.counts;
     lines.push(`| \`stepfree\` a 500-pair sample, 07:00–08:00, one thread (${c.step_free} step-free, ${c.blocked} blocked, ${c.explained} explained; runs ${t.map((x) => (x / 1000).toFixed(2)).join(', ')} s) | ${(t[1] / 1000).toFixed(2)} s | | | ≤ 5 s | ${t[1] <= 5000 ? 'met' : 'missed'} |`);
+  }
+  if (r.snapshot) {
+    const x = r.snapshot;
+    const loads = x.loads.map((l) => l.load_ms).sort((a, b) => a - b);
+    const med = loads[2];
+    lines.push('', '| snapshot (7 days from the date) against the zip, same run | snapshot | zip (baseline) | target | |');
+    lines.push('|---|---|---|---|---|');
+    lines.push(`| size | ${(x.bytes / 1e6).toFixed(2)} MB | ${(r.zip_bytes / 1e6).toFixed(2)} MB | ≤ the zip | ${x.bytes <= r.zip_bytes ? 'met' : 'missed'} |`);
+    lines.push(`| load into a fresh engine (\`load_snapshot\` / \`load_feed\`), median of 5 (runs ${loads.map(fmtMs).join(', ')} ms) | **${fmtMs(med)} ms** | ${fmtMs(r.load_ms)} ms | ≤ 300 ms | ${med <= 300 ? 'met' : 'missed'} |`);
+    lines.push(`| load + first \`plan\` (builds the date's graph) | ${fmtMs(x.routable_ms)} ms | ${fmtMs(r.load_ms + r.first_plan_ms)} ms | | |`);
+    lines.push(`| first kiosk \`board\` (departures + one destination, both profiles) | ${fmtMs(x.board_ms)} ms | | | |`);
   }
   lines.push('');
   lines.push('| zip → routable | figure | target | |');
