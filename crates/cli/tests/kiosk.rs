@@ -110,7 +110,8 @@ fn the_kiosk_folder_holds_everything_the_page_needs() {
     // Service Workers: sw.js at the root, so its scope is the whole folder; it keeps every file.
     assert!(out.join("sw.js").is_file());
     let list = std::fs::read_to_string(out.join("kiosk-files.js")).unwrap();
-    let listed: Vec<String> = serde_json::from_str(list.lines().find_map(|l| l.strip_prefix("self.KIOSK_FILES = ")).unwrap().trim_end_matches(';')).unwrap();
+    let listed: Vec<String> =
+        serde_json::from_str(list.lines().find_map(|l| l.strip_prefix("self.KIOSK_FILES = ")).unwrap().trim_end_matches(';')).unwrap();
     let mut present = Vec::new();
     files_under(&out, &out, &mut present);
     for f in &present {
@@ -139,7 +140,10 @@ fn bad_kiosk_input_is_refused_before_anything_is_written() {
     let (w, o) = (www.to_str().unwrap(), out.to_str().unwrap());
     let cases: [(&[&str], &str); 5] = [
         (&["--stop", "Oskerveld Centrl", "--from", "2026-12-01"], "did you mean: Oskerveld Central"),
-        (&["--stop", "ORR_CEN", "--destinations", "OCT_WMD,NOWHERE", "--from", "2026-12-01"], "--destinations: no stop matches \"NOWHERE\""),
+        (
+            &["--stop", "ORR_CEN", "--destinations", "OCT_WMD,NOWHERE", "--from", "2026-12-01"],
+            "--destinations: no stop matches \"NOWHERE\"",
+        ),
         (&["--stop", "ORR_CEN", "--from", "2027-03-30", "--days", "7"], "which cover 2026-11-01 to 2027-03-31"),
         (&["--stop", "ORR_CEN", "--from", "2026-12-01", "--days", "0"], "--days 0 must be 1-366"),
         (&["--stop", "ORR_CEN", "--from", "2026-12-01", "--www", "/nonexistent-www"], "build the page"),
