@@ -38,3 +38,10 @@ if [ -f tests/browser/package.json ] && { [ ! -d tests/browser/node_modules/play
   echo "setup: installing npm packages for the browser tests"
   (cd tests/browser && if [ -f package-lock.json ]; then npm ci --no-audit --no-fund; else npm install --no-audit --no-fund; fi)
 fi
+
+# The Python package's build and test dependencies (maturin, pyarrow, pandas, Dask, pytest),
+# pinned in python/requirements.txt; pip skips what is already installed at that version.
+if ! python3 -m pip install -q --disable-pip-version-check -r python/requirements.txt 2>/tmp/timeweave-pip.err; then
+  cat /tmp/timeweave-pip.err >&2
+  exit 1
+fi

@@ -18,6 +18,14 @@ pub enum Ended {
     Cancelled,
 }
 
+/// Shard `i` of `n` (1-based) of the origins: the `i`-th of `n` consecutive runs of nearly equal
+/// length, in the order given, so the shards together are the origins, each once (the CLI's
+/// `--shard i/n`, the Python package's `shard=(i, n)` and its Dask runner).
+pub fn shard(origins: &[usize], i: usize, n: usize) -> &[usize] {
+    let len = origins.len();
+    &origins[(i - 1) * len / n..i * len / n]
+}
+
 /// Runs `origins` (places) on `threads` threads and calls `sink(i, origin, rows)` for each in
 /// order. Stops early, without calling `sink` again, when `cancel` is set or `sink` fails.
 pub fn run<E: Send>(

@@ -263,13 +263,6 @@ pub fn parse_shard(text: &str) -> Result<(usize, usize), String> {
     Ok((i, n))
 }
 
-/// Shard `i` of `n` (1-based) of the origins: the `i`-th of `n` consecutive runs of nearly equal
-/// length, in the order given, so the shards together are the origins, each once.
-pub fn shard(origins: &[usize], i: usize, n: usize) -> &[usize] {
-    let len = origins.len();
-    &origins[(i - 1) * len / n..i * len / n]
-}
-
 pub struct MatrixArgs<'a> {
     pub shard: Option<&'a str>,
     pub origins: &'a str,
@@ -287,7 +280,7 @@ pub fn matrix(engine: &mut Engine, q: &WindowQuery, a: MatrixArgs) -> Result<(),
     let mut origins = resolve(engine, id_list(a.origins, "origins")?)?.unwrap_or_else(|| (0..engine.places.len()).collect());
     if let Some(spec) = a.shard {
         let (i, n) = parse_shard(spec)?;
-        origins = shard(&origins, i, n).to_vec();
+        origins = matrix::shard(&origins, i, n).to_vec();
     }
     let report = resolve(engine, id_list(a.destinations, "destinations")?)?;
     let weights = match a.opportunities {
