@@ -5,7 +5,8 @@
 # (cargo bench --bench interchange: metro all stations all day, against the first version), the
 # step-free audit (cargo bench --bench stepfree: region every pair, against both profiles alone), the
 # comparison (cargo bench --bench compare: region against itself, against one matrix), then the WASM build
-# in headless Chromium on the metro feed (tests/browser/bench/bench.mjs). Prints both Markdown
+# in headless Chromium on the metro feed (tests/browser/bench/bench.mjs), and the Python package's
+# Dask runner against one process (python/bench/cluster.py). Prints both Markdown
 # tables and the machine they ran on. Takes several minutes; the feeds are generated into
 # bench-out/ on first use.
 #
@@ -44,6 +45,9 @@ cargo bench -j "${CARGO_JOBS:-1}" --bench compare 2>&1 | tee bench-out/compare.l
 
 node tests/browser/bench/bench.mjs 2>&1 | tee bench-out/browser.log
 
+python3 -m pip install -q --disable-pip-version-check --no-build-isolation .
+python3 python/bench/cluster.py 2>&1 | tee bench-out/cluster.log
+
 {
   echo
   echo "## timeweave benchmarks"
@@ -61,4 +65,6 @@ node tests/browser/bench/bench.mjs 2>&1 | tee bench-out/browser.log
   cat bench-out/compare.md
   echo
   cat bench-out/browser.md
+  echo
+  cat bench-out/cluster.md
 } | tee bench-out/report.md
