@@ -5,20 +5,10 @@
 
 mod support;
 
-use support::{demo, plan, query};
+use support::{demo_engine, plan, query};
 use timeweave::error::QueryError;
 use timeweave::route::search::StepFree;
 use timeweave::Engine;
-
-fn demo_engine() -> Engine {
-    let mut engine = Engine::new();
-    for folder in ["oskerveld-city", "oskerveld-rail"] {
-        if let Err(e) = timeweave_disk::load_feed(&mut engine, &demo(folder), &mut |_, _| {}) {
-            panic!("demo feed {folder} does not load: {e}");
-        }
-    }
-    engine
-}
 
 #[test]
 fn an_unknown_stop_name_gives_suggestions() {

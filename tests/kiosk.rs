@@ -13,22 +13,12 @@
 mod support;
 
 use proptest::prelude::*;
-use support::{demo, Feed};
+use support::{demo_engine, Feed};
 use timeweave::engine::kiosk::{BoardQuery, Coverage};
 use timeweave::engine::{Engine, PlanQuery};
 use timeweave::error::QueryError;
 use timeweave::route::search::StepFree;
 use timeweave::timetable::snapshot::{SnapshotError, VERSION};
-
-fn demo_engine() -> Engine {
-    let mut engine = Engine::new();
-    for folder in ["oskerveld-city", "oskerveld-rail"] {
-        if let Err(e) = timeweave_disk::load_feed(&mut engine, &demo(folder), &mut |_, _| {}) {
-            panic!("demo feed {folder} does not load: {e}");
-        }
-    }
-    engine
-}
 
 fn date(s: &str) -> chrono::NaiveDate {
     s.parse().expect("test date")

@@ -64,20 +64,16 @@ def _csv_table(data: bytes, types: Mapping[str, pa.DataType]) -> pa.Table:
     return pacsv.read_csv(io.BytesIO(data), read_options=pacsv.ReadOptions(use_threads=False), convert_options=opts)
 
 
+def _query(**fields: Any) -> str:
+    """A request as JSON, leaving out the fields not given (the engine's defaults apply)."""
+    return json.dumps({k: v for k, v in fields.items() if v is not None})
+
+
 def _window(date: str, window: str, *, step: int | None, percentiles: Sequence[float] | None,
             cutoff: int | None, max_rides: int | None, max_duration: int | None, step_free: str) -> str:
-    q: dict[str, Any] = {"date": date, "window": window, "step_free": step_free}
-    if step is not None:
-        q["step_min"] = step
-    if percentiles is not None:
-        q["percentiles"] = [float(p) for p in percentiles]
-    if cutoff is not None:
-        q["cutoff_min"] = cutoff
-    if max_rides is not None:
-        q["max_rides"] = max_rides
-    if max_duration is not None:
-        q["max_duration_min"] = max_duration
-    return json.dumps(q)
+    return _query(date=date, window=window, step_free=step_free, step_min=step,
+                  percentiles=[float(p) for p in percentiles] if percentiles is not None else None,
+                  cutoff_min=cutoff, max_rides=max_rides, max_duration_min=max_duration)
 
 
 class Network:
@@ -172,14 +168,8 @@ class Network:
         """The interchange audit's rows, as ``timeweave interchange``: every arrival in the window
         against every other route and direction leaving the station, ``status`` made, none or
         not_possible, ``change_s``, ``wait_s``, ``missed_by_s``, ``near_miss``."""
-        q: dict[str, Any] = {"date": date, "station": station}
-        if window is not None:
-            q["window"] = window
-        if horizon is not None:
-            q["horizon_min"] = horizon
-        if near_miss is not None:
-            q["near_miss_min"] = near_miss
-        return _csv_table(self._net.interchange_csv(json.dumps(q)), _INTERCHANGE)
+        q = _query(date=date, station=station, window=window, horizon_min=horizon, near_miss_min=near_miss)
+        return _csv_table(self._net.interchange_csv(q), _INTERCHANGE)
 
     def stepfree(self, date: str, window: str, *, pairs: str = "all", seed: int | None = None,
                  lenient: bool = False, outages: Sequence[str] = (), threads: int | None = None) -> pa.Table:
@@ -189,7 +179,5 @@ class Network:
 
         Results reflect the feed's data, which may be incomplete or out of date; confirm on site
         and with the operator; local codes and licensed practice prevail."""
-        q: dict[str, Any] = {"date": date, "window": window, "pairs": pairs, "lenient": lenient, "outages": list(outages)}
-        if seed is not None:
-            q["seed"] = seed
-        return _csv_table(self._net.stepfree_csv(json.dumps(q), threads), _STEPFREE)
+        q = _query(date=date, window=window, pairs=pairs, lenient=lenient, outages=list(outages), seed=seed)
+        return _csv_table(self._net.stepfree_csv(q, threads), _STEPFREE)

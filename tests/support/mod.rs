@@ -134,3 +134,14 @@ impl Rng {
         items[self.below(items.len() as u32) as usize]
     }
 }
+
+/// A new engine with both demo feeds loaded from their folders, as the CLI loads them.
+pub fn demo_engine() -> Engine {
+    let mut engine = Engine::new();
+    for folder in ["oskerveld-city", "oskerveld-rail"] {
+        if let Err(e) = timeweave_disk::load_feed(&mut engine, &demo(folder), &mut |_, _| {}) {
+            panic!("demo feed {folder} does not load: {e}");
+        }
+    }
+    engine
+}

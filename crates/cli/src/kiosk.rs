@@ -18,9 +18,31 @@ pub const BOARD_HELP: &str = "Definitions:
   step-free: the trip and the stop are both marked accessible in the feed (wheelchair_accessible, wheelchair_boarding); unknown: the feed does not say.
   Journeys: the next journeys leaving at or after --at, standard and strict step-free (only elements the feed marks accessible); +N min: first step-free arrival minus first standard arrival.";
 
-/// The service dates a snapshot covers: `--from` (default: today in the first feed's time zone)
-/// and the `days - 1` after it.
-pub fn dates(engine: &Engine, from: Option<&str>, days: u32) -> Result<(NaiveDate, NaiveDate), String> {
+/// Where a board stands and where its journeys go.
+#[derive(clap::Args)]
+pub struct Where {
+    /// The stop or station the board stands at (id, code or name).
+    #[arg(long)]
+    pub stop: String,
+    /// Destinations shown with their next journeys, comma-separated ids.
+    #[arg(long, value_delimiter = ',')]
+    pub destinations: Vec<String>,
+}
+
+/// The service dates a snapshot covers.
+#[derive(clap::Args)]
+pub struct Dates {
+    /// First service date, YYYY-MM-DD (default: today in the first feed's time zone).
+    #[arg(long)]
+    from: Option<String>,
+    /// Service dates covered, from --from on (1-366).
+    #[arg(long, default_value_t = 7)]
+    days: u32,
+}
+
+/// `--from` (default: today in the first feed's time zone) and the `days - 1` after it.
+fn dates(engine: &Engine, d: &Dates) -> Result<(NaiveDate, NaiveDate), String> {
+    let (from, days) = (d.from.as_deref(), d.days);
     if !(1..=366).contains(&days) {
         return Err(format!("error: --days {days} must be 1-366"));
     }
@@ -35,8 +57,8 @@ fn made_by() -> String {
     format!("timeweave {}", env!("CARGO_PKG_VERSION"))
 }
 
-pub fn snapshot(engine: &Engine, from: Option<&str>, days: u32, out: &Path) -> Result<(), String> {
-    let (first, last) = dates(engine, from, days)?;
+pub fn snapshot(engine: &Engine, d: &Dates, out: &Path) -> Result<(), String> {
+    let (first, last) = dates(engine, d)?;
     let bytes = engine.snapshot_bytes(first, last, &made_by()).map_err(|e| format!("error: {e}"))?;
     timeweave_disk::write_atomically(out, |w| std::io::Write::write_all(w, &bytes))
         .map_err(|e| format!("error: cannot write {}: {e}", out.display()))?;
@@ -64,8 +86,7 @@ pub fn default_www() -> PathBuf {
 pub struct KioskArgs<'a> {
     pub stop: &'a str,
     pub destinations: &'a [String],
-    pub from: Option<&'a str>,
-    pub days: u32,
+    pub dates: &'a Dates,
     pub title: Option<&'a str>,
     pub www: &'a Path,
     pub out: &'a Path,
@@ -86,7 +107,7 @@ pub fn kiosk(engine: &mut Engine, a: KioskArgs) -> Result<(), String> {
     for d in a.destinations {
         dests.push(engine.resolve_match(d).map_err(|e| format!("error: --destinations: {e}"))?);
     }
-    let (first, last) = dates(engine, a.from, a.days)?;
+    let (first, last) = dates(engine, a.dates)?;
     let mut page = Vec::new();
     for (from, to) in PAGE_FILES.iter().chain([&WASM]) {
         let path = a.www.join(from);

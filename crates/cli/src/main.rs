@@ -344,12 +344,8 @@ enum Command {
     Snapshot {
         #[command(flatten)]
         feeds: Feeds,
-        /// First service date, YYYY-MM-DD (default: today in the first feed's time zone).
-        #[arg(long)]
-        from: Option<String>,
-        /// Service dates covered, from --from on (1-366).
-        #[arg(long, default_value_t = 7)]
-        days: u32,
+        #[command(flatten)]
+        dates: kiosk::Dates,
         /// Snapshot file to write (replaced whole, or left untouched on error).
         #[arg(long, value_name = "FILE")]
         out: PathBuf,
@@ -360,18 +356,10 @@ enum Command {
     Kiosk {
         #[command(flatten)]
         feeds: Feeds,
-        /// The stop or station the kiosk stands at (id, code or name).
-        #[arg(long)]
-        stop: String,
-        /// Destinations shown with their next journeys, comma-separated ids.
-        #[arg(long, value_delimiter = ',')]
-        destinations: Vec<String>,
-        /// First service date, YYYY-MM-DD (default: today in the first feed's time zone).
-        #[arg(long)]
-        from: Option<String>,
-        /// Service dates covered, from --from on (1-366).
-        #[arg(long, default_value_t = 7)]
-        days: u32,
+        #[command(flatten)]
+        at: kiosk::Where,
+        #[command(flatten)]
+        dates: kiosk::Dates,
         /// Heading shown on the screen (default: the stop's name).
         #[arg(long)]
         title: Option<String>,
@@ -387,11 +375,8 @@ enum Command {
     Board {
         #[command(flatten)]
         feeds: Feeds,
-        #[arg(long)]
-        stop: String,
-        /// Comma-separated destination ids.
-        #[arg(long, value_delimiter = ',')]
-        destinations: Vec<String>,
+        #[command(flatten)]
+        place: kiosk::Where,
         /// The instant, RFC 3339 (e.g. 2026-10-25T00:20:00Z); default: now.
         #[arg(long)]
         at: Option<String>,
@@ -660,29 +645,28 @@ fn run(cli: Cli) -> Result<(), String> {
             );
             Ok(())
         }
-        Command::Snapshot { feeds, from, days, out } => {
+        Command::Snapshot { feeds, dates, out } => {
             let engine = load(&feeds.feeds, false)?;
-            kiosk::snapshot(&engine, from.as_deref(), days, &out)
+            kiosk::snapshot(&engine, &dates, &out)
         }
-        Command::Kiosk { feeds, stop, destinations, from, days, title, www, out } => {
+        Command::Kiosk { feeds, at, dates, title, www, out } => {
             let mut engine = load(&feeds.feeds, false)?;
             let www = www.unwrap_or_else(kiosk::default_www);
             let args = kiosk::KioskArgs {
-                stop: &stop,
-                destinations: &destinations,
-                from: from.as_deref(),
-                days,
+                stop: &at.stop,
+                destinations: &at.destinations,
+                dates: &dates,
                 title: title.as_deref(),
                 www: &www,
                 out: &out,
             };
             kiosk::kiosk(&mut engine, args)
         }
-        Command::Board { feeds, stop, destinations, at, horizon, json: as_json } => {
+        Command::Board { feeds, place, at, horizon, json: as_json } => {
             let now_ms = kiosk::parse_at(at.as_deref())?;
             let mut engine = load(&feeds.feeds, as_json)?;
-            let mut q = timeweave::engine::kiosk::BoardQuery::new(&stop, now_ms);
-            q.destinations = destinations;
+            let mut q = timeweave::engine::kiosk::BoardQuery::new(&place.stop, now_ms);
+            q.destinations = place.destinations;
             q.horizon_min = horizon.clamp(1, 24 * 60);
             kiosk::board(&mut engine, &q, as_json)
         }

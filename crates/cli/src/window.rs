@@ -10,6 +10,7 @@ use timeweave::analysis::matrix::{self, Ended};
 use timeweave::engine::window::WindowQuery;
 use timeweave::engine::Engine;
 use timeweave::route::StepFree;
+use timeweave_tables::FillError;
 use timeweave_tables::{Format, MatrixTable, OpportunityTable};
 
 /// The definitions behind every number the window commands print, for their `--help`.
@@ -219,25 +220,20 @@ pub fn streamed<R, T>(
 ) -> Result<R, StreamError> {
     let cancel = cancel_on_ctrl_c();
     let mut progress: Option<indicatif::ProgressBar> = None;
-    let mut failed = None;
-    let report = run(&mut |done, total, rows| {
+    let report = timeweave_tables::fill(run, &mut add, |done, total| {
         if total > 1 {
             progress.get_or_insert_with(|| bar(total, what)).set_position(done as u64);
         }
-        if let Err(e) = add(rows) {
-            failed = Some(e);
-            return false;
-        }
         !cancel.load(Ordering::Relaxed)
-    })
-    .map_err(|e| StreamError::Query(format!("error: {e}")))?;
+    });
     if let Some(b) = progress {
         b.finish_and_clear();
     }
-    if let Some(e) = failed {
-        return Err(StreamError::Table(e));
+    match report {
+        Ok(r) => r.ok_or(StreamError::Cancelled),
+        Err(FillError::Run(e)) => Err(StreamError::Query(format!("error: {e}"))),
+        Err(FillError::Table(e)) => Err(StreamError::Table(e)),
     }
-    report.ok_or(StreamError::Cancelled)
 }
 
 /// A progress bar over `n` things.

@@ -20,12 +20,19 @@ use timeweave::engine::interchange::InterchangeQuery;
 use timeweave::engine::stepfree::StepFreeQuery;
 use timeweave::engine::window::WindowQuery;
 use timeweave::engine::{Engine, PlanQuery};
-use timeweave_tables::{ConnectionTable, Format, MatrixTable, StepFreePairTable};
+use timeweave_tables::{fill, ConnectionTable, FillError, Format, MatrixTable, StepFreePairTable};
 
 create_exception!(_native, TimeweaveError, PyValueError, "A request timeweave refuses, with the CLI's located message.");
 
 fn fail(e: impl std::fmt::Display) -> PyErr {
     TimeweaveError::new_err(e.to_string())
+}
+
+fn filled<E: std::fmt::Display>(e: FillError<E>) -> PyErr {
+    match e {
+        FillError::Run(e) => fail(e),
+        FillError::Table(e) => fail(e),
+    }
 }
 
 fn parse<T: serde::de::DeserializeOwned>(what: &str, json: &str) -> PyResult<T> {
@@ -142,18 +149,7 @@ impl Network {
         let q: InterchangeQuery = parse("interchange query", query)?;
         let bytes = self.with(py, |e| {
             let mut table = ConnectionTable::new(Vec::new()).map_err(fail)?;
-            let mut failed = None;
-            e.interchange_with(&q, &mut |_, _, rows| match table.add(rows) {
-                Ok(()) => true,
-                Err(err) => {
-                    failed = Some(err);
-                    false
-                }
-            })
-            .map_err(fail)?;
-            if let Some(err) = failed {
-                return Err(fail(err));
-            }
+            fill(|sink| e.interchange_with(&q, sink), |rows| table.add(rows), |_, _| true).map_err(filled)?;
             table.finish().map_err(fail)
         })?;
         Ok(PyBytes::new(py, &bytes))
@@ -166,18 +162,7 @@ impl Network {
         let bytes = self.with(py, |e| {
             let mut table = StepFreePairTable::new(Vec::new(), !q.outages.is_empty()).map_err(fail)?;
             let threads = threads.unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get())).max(1);
-            let mut failed = None;
-            e.stepfree_with(&q, threads, &mut |_, _, rows| match table.add(rows) {
-                Ok(()) => true,
-                Err(err) => {
-                    failed = Some(err);
-                    false
-                }
-            })
-            .map_err(fail)?;
-            if let Some(err) = failed {
-                return Err(fail(err));
-            }
+            fill(|sink| e.stepfree_with(&q, threads, sink), |rows| table.add(rows), |_, _| true).map_err(filled)?;
             table.finish().map_err(fail)
         })?;
         Ok(PyBytes::new(py, &bytes))

@@ -37,6 +37,37 @@ pub enum TableError {
     Arrow(#[from] arrow_schema::ArrowError),
 }
 
+/// Why [`fill`] stopped: the analysis refused (`Run`) or the table could not be written.
+#[derive(Debug)]
+pub enum FillError<E> {
+    Run(E),
+    Table(TableError),
+}
+
+/// Fills a table from an analysis that hands its rows on in chunks: `run` calls its sink with
+/// done, total and the rows; each chunk goes to `add`, and the first write error stops the run;
+/// `go_on(done, total)` is asked after each chunk (progress, cancel). The one loop the CLI, the
+/// page and the Python package share for the interchange and step-free tables.
+pub fn fill<R, T, E>(
+    run: impl FnOnce(&mut dyn FnMut(usize, usize, &[T]) -> bool) -> Result<R, E>,
+    mut add: impl FnMut(&[T]) -> Result<(), TableError>,
+    mut go_on: impl FnMut(usize, usize) -> bool,
+) -> Result<R, FillError<E>> {
+    let mut failed = None;
+    let r = run(&mut |done, total, rows| {
+        if let Err(e) = add(rows) {
+            failed = Some(e);
+            return false;
+        }
+        go_on(done, total)
+    })
+    .map_err(FillError::Run)?;
+    match failed {
+        Some(e) => Err(FillError::Table(e)),
+        None => Ok(r),
+    }
+}
+
 /// The file formats a matrix can be written in.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Format {

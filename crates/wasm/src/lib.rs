@@ -362,19 +362,11 @@ impl Engine {
         match table {
             "rows" => {
                 let mut t = timeweave_tables::ConnectionTable::new(Vec::new()).map_err(err)?;
-                let mut failed = None;
-                self.core
-                    .interchange_with(&q, &mut |_, _, chunk| match t.add(chunk) {
-                        Ok(()) => true,
-                        Err(e) => {
-                            failed = Some(e);
-                            false
-                        }
-                    })
-                    .map_err(failure)?;
-                if let Some(e) = failed {
-                    return Err(err(e));
-                }
+                let core = &mut self.core;
+                timeweave_tables::fill(|sink| core.interchange_with(&q, sink), |chunk| t.add(chunk), |_, _| true).map_err(|e| match e {
+                    timeweave_tables::FillError::Run(e) => failure(e),
+                    timeweave_tables::FillError::Table(e) => err(e),
+                })?;
                 t.finish().map_err(err)
             }
             "pairs" | "stations" => {
