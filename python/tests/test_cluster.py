@@ -80,7 +80,7 @@ def test_a_worker_killed_mid_shard_loses_and_doubles_nothing(client, synth_small
     import threading
     killer = threading.Thread(target=kill_when_busy)
     killer.start()
-    r = timeweave.cluster.matrix(client, [synth_small], DATE, WINDOW, out, shards=8)
+    r = timeweave.cluster.matrix(client, [synth_small], DATE, WINDOW, out, shards=8, progress=False)
     killer.join()
     assert victim, "no worker was busy to be killed"
     single = timeweave.Network([synth_small]).matrix(DATE, WINDOW).sort_by(KEYS)

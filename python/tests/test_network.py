@@ -111,3 +111,20 @@ def test_searches_release_the_gil(synth_small):
     t.join()
     assert result["t"].num_rows > 0
     assert counted > 100, f"the main thread ran only {counted} times during the matrix"
+
+
+def test_ctrl_c_stops_a_matrix_between_origins(synth_small):
+    import os
+    import signal
+    net = timeweave.Network([synth_small])
+    timer = threading.Timer(0.3, lambda: os.kill(os.getpid(), signal.SIGINT))
+    timer.start()
+    started = time.perf_counter()
+    with pytest.raises(KeyboardInterrupt):
+        net.matrix("2026-12-02", "06:00-12:00", threads=1)
+    stopped = time.perf_counter() - started
+    timer.join()
+    whole = time.perf_counter()
+    net.matrix("2026-12-02", "06:00-12:00", threads=1)
+    whole = time.perf_counter() - whole
+    assert stopped < whole / 2, f"stopped after {stopped:.2f} s of a {whole:.2f} s matrix"

@@ -153,7 +153,8 @@ class Network:
         destination with a journey at some departure; ``min_s``, percentiles ``p5_s``… (seconds),
         ``share_within_cutoff``, ``departures_with_journey``. ``origins``/``destinations``: stop
         ids (default every place). ``shard=(i, n)``: the i-th of n consecutive runs of the
-        origins, as ``--shard i/n``. Runs on ``threads`` native threads (default all cores)."""
+        origins, as ``--shard i/n``. Runs on ``threads`` native threads (default all cores);
+        Ctrl-C (KeyboardInterrupt) stops it between origins."""
         if percentiles is None:
             percentiles = MATRIX_PERCENTILES
         q = _window(date, window, step=step, percentiles=percentiles, cutoff=cutoff, max_rides=max_rides,

@@ -105,13 +105,17 @@ def matrix(client: Any, feeds: Sequence[str | os.PathLike[str]], date: str, wind
            *, shards: int | None = None, overwrite: bool = False, retries: int = 2, threads: int | None = 1,
            origins: Sequence[str] | None = None, destinations: Sequence[str] | None = None,
            step: int | None = None, percentiles: Sequence[float] | None = None, cutoff: int | None = None,
-           max_rides: int | None = None, max_duration: int | None = None, step_free: str = "off") -> dict[str, Any]:
+           max_rides: int | None = None, max_duration: int | None = None, step_free: str = "off",
+           progress: bool = True) -> dict[str, Any]:
     """Computes the travel-time matrix of ``feeds`` over ``window`` on ``date`` on the Dask
     cluster behind ``client``, one task per shard of origins, into the folder ``out``.
 
     ``shards``: how many tasks (default four per worker thread, so a slow shard does not hold
     the end). ``threads``: native threads per task (default 1: Dask already runs one task per
-    worker thread). The other options are :meth:`timeweave.Network.matrix`'s.
+    worker thread). ``progress``: Dask's progress bar of the shards (text in a terminal, a widget
+    in a notebook). Ctrl-C (KeyboardInterrupt) cancels the shards not yet done; the shards already
+    written stay, and the same call again computes only the rest. The other options are
+    :meth:`timeweave.Network.matrix`'s.
 
     :returns: ``{"out", "shards", "rows", "seconds"}``.
     :raises FileExistsError: ``out`` holds a different run and ``overwrite`` is false.
@@ -139,7 +143,14 @@ def matrix(client: Any, feeds: Sequence[str | os.PathLike[str]], date: str, wind
     futures = [client.submit(_shard_task, feeds_t, date, window, options, i, shards, out, threads,
                              key=f"timeweave-shard-{i}-of-{shards}-{uuid.uuid4().hex[:8]}", retries=retries, pure=False)
                for i in todo]
-    client.gather(futures)
+    try:
+        if progress and futures:
+            from dask.distributed import progress as show
+            show(futures)
+        client.gather(futures)
+    except KeyboardInterrupt:
+        client.cancel(futures)
+        raise
     rows = 0
     for i in range(1, shards + 1):
         folder = _partition(out, date, i)

@@ -102,7 +102,8 @@ impl Network {
     }
 
     /// The travel-time matrix over a window as the CLI's Parquet file; `shard` = (i, n) takes the
-    /// i-th of n consecutive runs of the origins, as `timeweave matrix --shard i/n`.
+    /// i-th of n consecutive runs of the origins, as `timeweave matrix --shard i/n`. A
+    /// KeyboardInterrupt stops it between origins.
     #[pyo3(signature = (query, origins=None, destinations=None, shard=None, threads=None))]
     fn matrix_parquet<'py>(
         &self,
@@ -137,8 +138,11 @@ impl Network {
             let threads = threads.unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get())).max(1);
             let never = AtomicBool::new(false);
             let run = e.window_run(&setting);
-            matrix::run(run, &from, &dest, threads, &never, |_, o, rows| table.origin(&ids[o], rows, |to| ids[to as usize].as_str()))
-                .map_err(fail)?;
+            // Ctrl-C in Python (KeyboardInterrupt) is seen between origins and stops the run.
+            matrix::run(run, &from, &dest, threads, &never, |_, o, rows| {
+                Python::attach(|py| py.check_signals())?;
+                table.origin(&ids[o], rows, |to| ids[to as usize].as_str()).map_err(fail)
+            })?;
             table.finish().map_err(fail)
         })?;
         Ok(PyBytes::new(py, &bytes))
