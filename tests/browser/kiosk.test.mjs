@@ -185,7 +185,12 @@ test('a damaged, older or run-out timetable is said on screen, never a blank or 
     assert.equal((await page.$$('#departures tbody tr')).length, 0);
     await context.close();
   }
-  const { page, context } = await openKiosk('demo', '2026-12-09T07:00:00Z');
+  // Two days before the end the screen says so; after it, no times at all.
+  let { page, context } = await openKiosk('demo', '2026-12-05T07:00:00Z');
+  assert.equal(await page.getAttribute('html', 'data-ends-soon'), 'yes');
+  assert.ok((await page.textContent('#coverage')).includes('It ends in 2 days'));
+  await context.close();
+  ({ page, context } = await openKiosk('demo', '2026-12-09T07:00:00Z'));
   assert.equal(await page.getAttribute('html', 'data-coverage'), 'run_out');
   assert.ok((await page.textContent('#alert')).includes('ended on 2026-12-07'));
   assert.equal((await page.$$('#departures tbody tr')).length, 0);
@@ -205,4 +210,17 @@ test('the kiosk passes axe-core WCAG 2.1 AA and the 7:1 contrast rule, board and
     assert.ok(aaa.passes.length + aaa.incomplete.length > 0, 'the contrast rule ran');
   }
   await context.close();
+});
+
+test('the whole board and its caution fit one screen, landscape and portrait', async () => {
+  for (const viewport of [{ width: 1920, height: 1080 }, { width: 1080, height: 1920 }, { width: 1280, height: 800 }]) {
+    const { page, context } = await openKiosk('demo', '2026-12-02T07:00:00Z', { viewport });
+    const fit = await page.evaluate(() => {
+      const c = document.getElementById('caution').getBoundingClientRect();
+      return { scrolls: document.documentElement.scrollHeight > window.innerHeight, cautionIn: c.top >= 0 && c.bottom <= window.innerHeight };
+    });
+    assert.deepEqual(fit, { scrolls: false, cautionIn: true }, JSON.stringify(viewport));
+    await h.shot(page, `kiosk-${viewport.width}x${viewport.height}`);
+    await context.close();
+  }
 });

@@ -65,6 +65,11 @@ function span(it) {
   return `${it.depart} → ${it.arrive} (${Math.ceil(it.duration_s / 60)} min, ${it.rides} ${it.rides === 1 ? 'ride' : 'rides'})`;
 }
 
+/** The same, shorter, for the idle screen: times and minutes, the rides beneath. */
+function brief(it, after = '') {
+  return [`${it.depart} → ${it.arrive}`, node('span', { class: 'more' }, ` ${Math.ceil(it.duration_s / 60)} min, ${it.rides} ${it.rides === 1 ? 'ride' : 'rides'}${after}`)];
+}
+
 function extra(d) {
   if (d.step_free_extra_s === null || d.step_free_extra_s === undefined) return '';
   const m = Math.round(d.step_free_extra_s / 60);
@@ -76,9 +81,9 @@ function drawDestinations(b) {
   el('destinations').replaceChildren(...b.destinations.map((d) => {
     const btn = node('button', { class: 'dest', type: 'button', 'data-stop': d.stop_id },
       node('span', { class: 'to' }, `To ${d.name}`),
-      node('span', { class: 'row' }, node('span', { class: 'label' }, 'Next'), d.standard[0] ? span(d.standard[0]) : 'no journey found'),
+      node('span', { class: 'row' }, node('span', { class: 'label' }, 'Next'), d.standard[0] ? brief(d.standard[0]) : 'no journey found'),
       node('span', { class: 'row' }, node('span', { class: 'label' }, 'Step-free'),
-        d.step_free[0] ? span(d.step_free[0]) + extra(d) : 'none the data confirms'));
+        d.step_free[0] ? brief(d.step_free[0], extra(d)) : 'none the data confirms'));
     btn.addEventListener('click', () => openDetail(d.stop_id));
     return node('li', {}, btn);
   }));
@@ -134,7 +139,11 @@ function touched() {
 }
 
 function coverage(b) {
-  el('coverage').textContent = `Timetable on this screen: ${b.first_date} to ${b.last_date} (${b.timezone} time).`;
+  const left = Math.round((Date.parse(b.last_date) - Date.parse(b.today)) / 86400000);
+  const soon = b.coverage === 'covered' && left <= 2
+    ? ` It ends ${left === 0 ? 'today' : left === 1 ? 'tomorrow' : `in ${left} days`}: staff, please load a newer one.` : '';
+  el('coverage').textContent = `Timetable on this screen: ${b.first_date} to ${b.last_date} (${b.timezone} time).${soon}`;
+  document.documentElement.dataset.endsSoon = soon ? 'yes' : 'no';
   document.documentElement.dataset.coverage = b.coverage;
   if (b.coverage === 'run_out') {
     say(`The timetable on this screen ended on ${b.last_date}. No departure times are shown; please check with staff or the operator.`);
