@@ -224,3 +224,23 @@ test('the whole board and its caution fit one screen, landscape and portrait', a
     await context.close();
   }
 });
+
+test('a newer kiosk folder on the server replaces the old one on screen by itself', async () => {
+  const folder = path.join(s.dir, 'update');
+  const write = (days) => run(['kiosk', ...DEMO, '--stop', 'ORR_CEN', '--from', '2026-12-01', '--days', String(days), '--www', WWW, '--out', folder]);
+  await write(5);
+  const { page, context } = await openKiosk('update', '2026-12-02T07:00:00Z', { serviceWorkers: 'allow' });
+  assert.ok((await page.textContent('#coverage')).includes('2026-12-01 to 2026-12-05'));
+  await page.evaluate(async () => {
+    await navigator.serviceWorker.ready;
+    if (!navigator.serviceWorker.controller) await new Promise((r) => navigator.serviceWorker.addEventListener('controllerchange', r, { once: true }));
+  });
+  await write(7);
+  // The hourly check, an hour on the fake clock: the new worker installs, takes over, the screen reloads.
+  const reloaded = page.waitForEvent('load', { timeout: 30000 });
+  await page.clock.runFor(3600_000);
+  await reloaded;
+  await page.waitForFunction(() => document.getElementById('coverage').textContent.includes('2026-12-07'), null, { timeout: 30000 });
+  assert.equal(await page.getAttribute('html', 'data-kiosk'), 'ready');
+  await context.close();
+});

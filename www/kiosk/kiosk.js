@@ -8,6 +8,8 @@ import init, { Engine } from './pkg/timeweave.js';
 const REFRESH_MS = 20000;
 /** Back to the board after this long without a touch, ms. */
 const IDLE_MS = 60000;
+/** How often the screen asks the server for a newer kiosk folder (when there is a network), ms. */
+const UPDATE_MS = 3600000;
 
 const el = (id) => document.getElementById(id);
 const state = { engine: null, config: null, board: null, open: null, idle: null };
@@ -173,6 +175,26 @@ function draw() {
   document.documentElement.dataset.drawn = String(Number(document.documentElement.dataset.drawn || 0) + 1);
 }
 
+/**
+ * The service worker serves this folder offline. A new folder written over the old one on the
+ * server (a newer timetable) is found by the worker's update check, hourly and at each start; once
+ * the new worker has taken over, the screen reloads itself so it shows the new timetable. No
+ * network: the checks fail quietly and the cached folder goes on.
+ */
+function watchForUpdates() {
+  if (!('serviceWorker' in navigator)) return;
+  // The first worker taking over a page it did not serve changes nothing on screen; any later one
+  // brings a new folder.
+  let controlled = Boolean(navigator.serviceWorker.controller);
+  navigator.serviceWorker.addEventListener('controllerchange', () => {
+    if (controlled) location.reload();
+    controlled = true;
+  });
+  navigator.serviceWorker.register('sw.js').then((reg) => {
+    setInterval(() => reg.update().catch(() => {}), UPDATE_MS);
+  }).catch(() => {});
+}
+
 async function fetchOk(url) {
   const r = await fetch(url);
   if (!r.ok) throw new Error(`${url}: the server answered ${r.status}`);
@@ -180,7 +202,7 @@ async function fetchOk(url) {
 }
 
 async function start() {
-  if ('serviceWorker' in navigator) navigator.serviceWorker.register('sw.js').catch(() => {});
+  watchForUpdates();
   el('back').addEventListener('click', showBoard);
   for (const ev of ['pointerdown', 'keydown']) document.addEventListener(ev, touched);
   const times = {};
