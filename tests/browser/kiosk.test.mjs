@@ -88,7 +88,22 @@ function shownBoard(page) {
 
 const inMin = (n) => (n === 0 ? 'now' : `in ${n} min`);
 
-test('the kiosk shows the board the CLI computes, and keeps showing it with the network cut', async () => {
+/**
+ * Polls `fn` in the page from Node until it is true (the page's own timers run on the fake
+ * clock, so waiting in the page could wait forever); fails after `ms`.
+ */
+async function until(page, fn, what, ms = 30000) {
+  const end = Date.now() + ms;
+  while (Date.now() < end) {
+    if (await page.evaluate(fn).catch(() => false)) return;
+    await new Promise((r) => setTimeout(r, 100));
+  }
+  throw new Error(`timed out after ${ms} ms waiting for ${what}`);
+}
+
+const controlled = (page) => until(page, () => Boolean(navigator.serviceWorker.controller), 'the service worker to control the page');
+
+test('the kiosk shows the board the CLI computes, and keeps showing it with the network cut', { timeout: 120000 }, async () => {
   const at = '2026-12-02T07:00:00Z';
   const { page, context, requests, errors } = await openKiosk('demo', at, { serviceWorkers: 'allow' });
   assert.equal(await page.getAttribute('html', 'data-kiosk'), 'ready');
@@ -104,10 +119,7 @@ test('the kiosk shows the board the CLI computes, and keeps showing it with the 
   assert.ok((await page.textContent('#caution')).includes('confirm on site and with the operator'));
   assert.ok((await page.textContent('#coverage')).includes('2026-12-01 to 2026-12-07'));
   // Once the service worker controls the page, cut the network and load again.
-  await page.evaluate(async () => {
-    await navigator.serviceWorker.ready;
-    if (!navigator.serviceWorker.controller) await new Promise((r) => navigator.serviceWorker.addEventListener('controllerchange', r, { once: true }));
-  });
+  await controlled(page);
   await context.setOffline(true);
   await page.reload();
   await page.waitForSelector('html[data-kiosk]', { timeout: 30000 });
@@ -120,7 +132,7 @@ test('the kiosk shows the board the CLI computes, and keeps showing it with the 
   await context.close();
 });
 
-test('the board redraws from the clock, and a touched destination goes back to the board after a minute', async () => {
+test('the board redraws from the clock, and a touched destination goes back to the board after a minute', { timeout: 120000 }, async () => {
   const { page, context } = await openKiosk('demo', '2026-12-02T07:00:00Z');
   const drawn = Number(await page.getAttribute('html', 'data-drawn'));
   const before = await shownBoard(page);
@@ -142,7 +154,7 @@ test('the board redraws from the clock, and a touched destination goes back to t
   await context.close();
 });
 
-test('across the autumn clock change the board gives the times of the tz database', async () => {
+test('across the autumn clock change the board gives the times of the tz database', { timeout: 120000 }, async () => {
   // GTFS Schedule reference: times count from noon minus 12 h of the service day. On 2026-10-25
   // noon is CET (+1), so the origin is 2026-10-24T23:00Z (worked by hand). The browser's own tz
   // data says how each departure instant reads on a clock in zone CET.
@@ -175,7 +187,7 @@ test('across the autumn clock change the board gives the times of the tz databas
   await context.close();
 });
 
-test('a damaged, older or run-out timetable is said on screen, never a blank or stale board', async () => {
+test('a damaged, older or run-out timetable is said on screen, never a blank or stale board', { timeout: 120000 }, async () => {
   for (const [folder, words] of [['damaged', 'damaged'], ['old', 'format version 0']]) {
     const { page, context } = await openKiosk(folder, '2026-12-02T07:00:00Z');
     assert.equal(await page.getAttribute('html', 'data-kiosk'), 'failed');
@@ -198,7 +210,7 @@ test('a damaged, older or run-out timetable is said on screen, never a blank or 
   await context.close();
 });
 
-test('the kiosk passes axe-core WCAG 2.1 AA and the 7:1 contrast rule, board and detail', async () => {
+test('the kiosk passes axe-core WCAG 2.1 AA and the 7:1 contrast rule, board and detail', { timeout: 120000 }, async () => {
   const { page, context } = await openKiosk('demo', '2026-12-02T07:00:00Z');
   for (const view of ['board', 'detail']) {
     if (view === 'detail') await page.click('.dest');
@@ -212,7 +224,7 @@ test('the kiosk passes axe-core WCAG 2.1 AA and the 7:1 contrast rule, board and
   await context.close();
 });
 
-test('the whole board and its caution fit one screen, landscape and portrait', async () => {
+test('the whole board and its caution fit one screen, landscape and portrait', { timeout: 120000 }, async () => {
   for (const viewport of [{ width: 1920, height: 1080 }, { width: 1080, height: 1920 }, { width: 1280, height: 800 }]) {
     const { page, context } = await openKiosk('demo', '2026-12-02T07:00:00Z', { viewport });
     const fit = await page.evaluate(() => {
@@ -225,22 +237,19 @@ test('the whole board and its caution fit one screen, landscape and portrait', a
   }
 });
 
-test('a newer kiosk folder on the server replaces the old one on screen by itself', async () => {
+test('a newer kiosk folder on the server replaces the old one on screen by itself', { timeout: 120000 }, async () => {
   const folder = path.join(s.dir, 'update');
   const write = (days) => run(['kiosk', ...DEMO, '--stop', 'ORR_CEN', '--from', '2026-12-01', '--days', String(days), '--www', WWW, '--out', folder]);
   await write(5);
   const { page, context } = await openKiosk('update', '2026-12-02T07:00:00Z', { serviceWorkers: 'allow' });
   assert.ok((await page.textContent('#coverage')).includes('2026-12-01 to 2026-12-05'));
-  await page.evaluate(async () => {
-    await navigator.serviceWorker.ready;
-    if (!navigator.serviceWorker.controller) await new Promise((r) => navigator.serviceWorker.addEventListener('controllerchange', r, { once: true }));
-  });
+  await controlled(page);
   await write(7);
   // The hourly check, an hour on the fake clock: the new worker installs, takes over, the screen reloads.
   const reloaded = page.waitForEvent('load', { timeout: 30000 });
   await page.clock.runFor(3600_000);
   await reloaded;
-  await page.waitForFunction(() => document.getElementById('coverage').textContent.includes('2026-12-07'), null, { timeout: 30000 });
+  await until(page, () => document.getElementById('coverage').textContent.includes('2026-12-07'), 'the new timetable on screen');
   assert.equal(await page.getAttribute('html', 'data-kiosk'), 'ready');
   await context.close();
 });

@@ -191,7 +191,7 @@ function watchForUpdates() {
     controlled = true;
   });
   navigator.serviceWorker.register('sw.js').then((reg) => {
-    setInterval(() => reg.update().catch(() => {}), UPDATE_MS);
+    if (reg) setInterval(() => reg.update().catch(() => {}), UPDATE_MS);
   }).catch(() => {});
 }
 
