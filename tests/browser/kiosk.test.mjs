@@ -61,7 +61,7 @@ before(async () => {
   }
   s.server = await h.startServer({ root: s.dir });
   s.browser = await h.launchBrowser();
-});
+}, { timeout: 180000 });
 
 after(async () => {
   if (s.browser) await s.browser.close();
