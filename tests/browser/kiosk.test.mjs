@@ -73,7 +73,15 @@ async function openKiosk(folder, instant, opts = {}) {
   const rec = await h.openPage(s.browser, { viewport: { width: 1280, height: 800 }, ...opts });
   await rec.page.clock.install({ time: new Date(instant) });
   await rec.page.goto(`${s.server.url}${folder}/`);
-  await rec.page.waitForSelector('html[data-kiosk]', { timeout: 30000 });
+  try {
+    // The first load compiles the WASM module and, with service workers allowed, installs the
+    // worker (which fetches every file again) at the same time: give it time on a loaded machine.
+    await rec.page.waitForSelector('html[data-kiosk]', { state: 'attached', timeout: 60000 });
+  } catch (e) {
+    const state = await rec.page.evaluate(() => ({ ready: document.readyState, alert: document.getElementById('alert')?.textContent,
+      sw: navigator.serviceWorker ? Boolean(navigator.serviceWorker.controller) : 'none' })).catch((x) => String(x));
+    throw new Error(`${folder}: the kiosk did not start: ${e.message}\nstate ${JSON.stringify(state)}\nerrors ${JSON.stringify(rec.errors)}\nrequests ${JSON.stringify(rec.requests)}`);
+  }
   return rec;
 }
 
