@@ -21,6 +21,7 @@ import csv
 import io
 import json
 import os
+import re
 from typing import Any, Mapping, Sequence
 
 import pyarrow as pa
@@ -39,7 +40,8 @@ PathLike = str | os.PathLike[str]
 # measured in DEVELOPERS.md). The tables here are read single-threaded; the engine has its own threads.
 
 #: Column types of the tables read from the engine's CSV; columns not named are text.
-_REACH = {"min_s": pa.float64(), "p50_s": pa.float64(), "p90_s": pa.float64(), "share_within_cutoff": pa.float64(),
+_PERCENTILE = re.compile(r"p[0-9.]+_s")
+_REACH = {"min_s": pa.float64(), "share_within_cutoff": pa.float64(),
           "departures_with_journey": pa.int64()}
 _INTERCHANGE = {"arr_direction": pa.int64(), "dep_direction": pa.int64(), "change_s": pa.int64(), "wait_s": pa.int64(),
                 "missed_by_s": pa.int64(), "near_miss": pa.int64()}
@@ -57,9 +59,8 @@ def _csv_table(data: bytes, types: Mapping[str, pa.DataType]) -> pa.Table:
     if not data:
         return pa.table({})
     header = next(csv.reader(io.StringIO(data[: data.index(b"\n")].decode("utf-8"))))
-    column_types = {c: types.get(c, pa.string()) for c in header}
-    if not column_types.get("p50_s") and any(c.endswith("_s") and c.startswith("p") for c in header):
-        column_types.update({c: pa.float64() for c in header if c.startswith("p") and c.endswith("_s")})
+    # Percentile columns (p50_s, p12.5_s, …) are seconds whatever percentiles were asked for.
+    column_types = {c: types.get(c, pa.float64() if _PERCENTILE.fullmatch(c) else pa.string()) for c in header}
     opts = pacsv.ConvertOptions(column_types=column_types, strings_can_be_null=True, null_values=[""])
     return pacsv.read_csv(io.BytesIO(data), read_options=pacsv.ReadOptions(use_threads=False), convert_options=opts)
 
